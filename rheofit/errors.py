@@ -1,0 +1,61 @@
+"""One family of exceptions, each with a message written for the user.
+
+Every message quotes the bad value, says what was expected and, where there is
+a fixed set of valid choices, lists them and suggests the nearest one.  The
+CLI prints ``str(error)`` and exits with code 2; it never shows a traceback.
+"""
+
+from __future__ import annotations
+
+import difflib
+from collections.abc import Iterable
+
+
+class RheofitError(Exception):
+    """Base class of every error rheofit raises on purpose."""
+
+
+class InputFileError(RheofitError, ValueError):
+    """A data file cannot be read as a flow curve (names file, row, column)."""
+
+
+class UnitError(RheofitError, ValueError):
+    """A unit string is unknown or of the wrong kind."""
+
+
+class ModelNameError(RheofitError, KeyError):
+    """An unknown model name was asked for."""
+
+    def __str__(self) -> str:  # KeyError would otherwise quote the message
+        return self.args[0] if self.args else ""
+
+
+class ParameterError(RheofitError, ValueError):
+    """A parameter name or value does not fit the model."""
+
+
+class FitError(RheofitError, RuntimeError):
+    """A fit could not be carried out on the given data."""
+
+
+class GeometryError(RheofitError, ValueError):
+    """A geometry or operating point is not physical."""
+
+
+class OutputExistsError(RheofitError, FileExistsError):
+    """An output file exists and ``force`` was not given."""
+
+
+def nearest(word: str, choices: Iterable[str]) -> str:
+    """Return `` Did you mean 'x'?`` for the closest choice, or ``""``."""
+    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.5)
+    return f" Did you mean '{close[0]}'?" if close else ""
+
+
+def choice_message(kind: str, word: str, choices: Iterable[str]) -> str:
+    """Message for an unknown name: quote it, list the valid ones, suggest one."""
+    choices = list(choices)
+    return (
+        f"Unknown {kind} '{word}'. Valid {kind}s: {', '.join(choices)}."
+        f"{nearest(word, choices)}"
+    )
