@@ -1,0 +1,51 @@
+"""rheofit: fit flow curves of non-Newtonian samples and predict their flow.
+
+The public API is this short list.  Heavy modules (lmfit, pandas, scipy,
+matplotlib) load on first use, so ``import rheofit`` and ``rheofit --help``
+stay fast.
+
+>>> import rheofit
+>>> blood_like = rheofit.fluid("casson", tau_y=0.005, mu_c=0.0035)
+>>> round(float(blood_like.viscosity(100.0)) * 1e3, 2)   # mPa*s
+4.72
+"""
+
+from __future__ import annotations
+
+import importlib
+
+__version__ = "0.1.0"
+
+_EXPORTS = {
+    "FlowCurve": "rheofit.curve",
+    "Flag": "rheofit.curve",
+    "read_flow_curve": "rheofit.ingest",
+    "read_flow_curves": "rheofit.ingest",
+    "MODELS": "rheofit.models",
+    "get_model": "rheofit.models",
+    "fluid": "rheofit.fluid",
+    "Fluid": "rheofit.fluid",
+    "fit": "rheofit.fitting",
+    "fit_all": "rheofit.fitting",
+    "FitResult": "rheofit.fitting",
+    "Tube": "rheofit.flow",
+    "Slit": "rheofit.flow",
+    "predict": "rheofit.flow",
+    "FlowPrediction": "rheofit.flow",
+    "RheofitError": "rheofit.errors",
+}
+
+__all__ = sorted(_EXPORTS) + ["__version__"]
+
+
+def __getattr__(name: str):
+    module = _EXPORTS.get(name)
+    if module is None:
+        raise AttributeError(f"module 'rheofit' has no attribute '{name}'")
+    value = getattr(importlib.import_module(module), name)
+    globals()[name] = value
+    return value
+
+
+def __dir__():
+    return __all__

@@ -1,0 +1,35 @@
+"""Writing outputs safely: atomically, and never over an existing file unless asked."""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+
+from rheofit.errors import OutputExistsError
+
+
+def write_atomic(path, data: str | bytes, *, force: bool = False) -> Path:
+    """Write ``data`` to ``path`` via a temporary file in the same folder and a rename.
+
+    A reader never sees a half-written file, and an existing file is replaced
+    only when ``force`` is true (otherwise OutputExistsError).
+    """
+    path = Path(path)
+    if path.exists() and not force:
+        raise OutputExistsError(
+            f"Output file '{path}' already exists; choose another name or pass --force to overwrite it."
+        )
+    path.parent.mkdir(parents=True, exist_ok=True)
+    mode = "wb" if isinstance(data, bytes) else "w"
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    try:
+        with os.fdopen(fd, mode, **({} if mode == "wb" else {"encoding": "utf-8"})) as handle:
+            handle.write(data)
+            handle.flush()
+            os.fsync(handle.fileno())
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+    return path
