@@ -7,12 +7,16 @@ stay fast.
 >>> import rheofit
 >>> blood_like = rheofit.fluid("casson", tau_y=0.005, mu_c=0.0035)
 >>> round(float(blood_like.viscosity(100.0)) * 1e3, 2)   # mPa*s
-4.72
+4.39
 """
 
 from __future__ import annotations
 
 import importlib
+
+# Imported eagerly (light: numpy only) so that the function, not the submodule
+# of the same name, is what ``rheofit.fluid`` means.
+from rheofit.fluid import Fluid, fluid
 
 __version__ = "0.1.0"
 
@@ -23,8 +27,6 @@ _EXPORTS = {
     "read_flow_curves": "rheofit.ingest",
     "MODELS": "rheofit.models",
     "get_model": "rheofit.models",
-    "fluid": "rheofit.fluid",
-    "Fluid": "rheofit.fluid",
     "fit": "rheofit.fitting",
     "fit_all": "rheofit.fitting",
     "FitResult": "rheofit.fitting",
@@ -35,7 +37,7 @@ _EXPORTS = {
     "RheofitError": "rheofit.errors",
 }
 
-__all__ = sorted(_EXPORTS) + ["__version__"]
+__all__ = sorted([*_EXPORTS, "Fluid", "fluid"]) + ["__version__"]
 
 
 def __getattr__(name: str):

@@ -9,8 +9,8 @@ stays light.
 
 >>> to_si(1.0, "cP", "viscosity")
 0.001
->>> parse_quantity("10 uL/min", "flow_rate")
-1.6666666666666667e-10
+>>> f"{parse_quantity('10 uL/min', 'flow_rate'):.4e}"
+'1.6667e-10'
 """
 
 from __future__ import annotations

@@ -1,0 +1,1 @@
+"""Presentation: console tables (rich), figures (matplotlib) and the HTML report."""

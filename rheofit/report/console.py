@@ -1,0 +1,112 @@
+"""Rich renderings of results for the terminal.  No computation happens here."""
+
+from __future__ import annotations
+
+import math
+
+from rich.console import Group
+from rich.table import Table
+from rich.text import Text
+
+from rheofit.models import MODELS
+
+
+def number(x, digits: int = 4) -> str:
+    """Compact number: 4 significant digits, '—' for missing."""
+    if x is None or (isinstance(x, float) and math.isnan(x)):
+        return "—"
+    return f"{x:.{digits}g}"
+
+
+def interval(ci) -> str:
+    """'[low, high]' with an open end shown as 'open'."""
+    if ci is None:
+        return "—"
+    low, high = ci
+    return f"[{_end(low, 'open')}, {_end(high, 'open')}]"
+
+
+def _end(x, word):
+    if x is None or (isinstance(x, float) and not math.isfinite(x)):
+        return word
+    return number(x)
+
+
+def models_list() -> Text:
+    """Every declared model: name, equation, parameters with SI units, source."""
+    text = Text()
+    for m in MODELS.values():
+        text.append(f"{m.name}", style="bold cyan")
+        text.append(f"  ({m.title})\n    {m.equation}\n")
+        for p in m.parameters:
+            text.append(f"    {p.name:<8} [{p.unit}]  {p.meaning}; bounds {p.lower:g} to {p.upper:g}\n")
+        text.append(f"    source: {m.reference}\n\n", style="dim")
+    return text
+
+
+def ranking_table(results) -> Table:
+    """Models ranked by AICc with Akaike weights (Burnham & Anderson 2002)."""
+    best = results[0].aicc
+    weights = [math.exp(-0.5 * (r.aicc - best)) for r in results]
+    total = sum(weights)
+    table = Table(title="Ranking (AICc, lower is better)")
+    for col in ("#", "model", "k", "AICc", "ΔAICc", "weight", "BIC", "rms log-residual", "flags"):
+        table.add_column(col, justify="right" if col not in ("model", "flags") else "left")
+    for i, (r, w) in enumerate(zip(results, weights), 1):
+        table.add_row(
+            str(i), r.model, str(len(r.params)), f"{r.aicc:.2f}", f"{r.aicc - best:.2f}",
+            f"{w / total:.3f}", f"{r.bic:.2f}", f"{r.rms_log_residual:.4f}",
+            ", ".join(sorted({f.code for f in r.flags})) or "—",
+        )
+    return table
+
+
+def parameter_table(result) -> Table:
+    """Parameters of one fit with SI units, 95 % intervals and their method."""
+    table = Table(title=f"{result.model}: {result.declaration.equation}")
+    for col in ("parameter", "value", "std. error", "95 % interval", "unit", "interval method"):
+        table.add_column(col)
+    for name, est in result.params.items():
+        unit = result.declaration.parameter(name).unit
+        shown = interval(est.ci95) + ("" if est.resolved else "  (unresolved)")
+        table.add_row(name, number(est.value), number(est.stderr), shown, unit, est.method)
+    return table
+
+
+def flag_lines(flags) -> Text:
+    """Flags as a bullet list in plain words."""
+    if not flags:
+        return Text("No flags.", style="green")
+    text = Text()
+    for flag in flags:
+        text.append("  • ", style="yellow")
+        text.append(flag.message + "\n")
+    return text
+
+
+def curve_block(curve, results, chosen) -> Group:
+    """Everything `rheofit fit` shows for one curve."""
+    low, high = curve.shear_rate_range
+    head = Text(
+        f"\n{curve.name}  ({curve.source or 'in memory'}; {len(curve)} points, "
+        f"shear rate {number(low)}–{number(high)} 1/s)",
+        style="bold",
+    )
+    parts = [head]
+    if len(results) > 1:
+        parts.append(ranking_table(results))
+    parts += [parameter_table(chosen), Text("Flags:", style="bold"), flag_lines(tuple(curve.flags) + tuple(chosen.flags))]
+    return Group(*parts)
+
+
+def summary_table(groups) -> Table:
+    """One row per curve: the best model and its parameters."""
+    table = Table(title="Summary")
+    for col in ("sample", "best model", "ΔAICc to next", "parameters", "flags"):
+        table.add_column(col, overflow="fold")
+    for curve, results in groups:
+        best = results[0]
+        gap = f"{results[1].aicc - best.aicc:.2f}" if len(results) > 1 else "—"
+        params = ", ".join(f"{k}={number(v.value)}" for k, v in best.params.items())
+        table.add_row(curve.name, best.model, gap, params, str(len(best.flags) + len(curve.flags)))
+    return table

@@ -1,0 +1,25 @@
+"""Outputs are written atomically and never over an existing file unless forced."""
+
+import pytest
+
+from rheofit.errors import OutputExistsError
+from rheofit.output import write_atomic
+
+
+def test_writes_and_refuses_to_overwrite(tmp_path):
+    target = tmp_path / "sub" / "fit.json"
+    write_atomic(target, "one")
+    assert target.read_text() == "one"
+    with pytest.raises(OutputExistsError, match="--force"):
+        write_atomic(target, "two")
+    assert target.read_text() == "one"
+    write_atomic(target, b"three", force=True)
+    assert target.read_bytes() == b"three"
+    assert [p.name for p in target.parent.iterdir()] == ["fit.json"]  # no temp file left
+
+
+def test_failed_write_leaves_no_temp_file(tmp_path):
+    target = tmp_path / "x.txt"
+    with pytest.raises(TypeError):
+        write_atomic(target, 12345)  # not text or bytes
+    assert list(tmp_path.iterdir()) == []
