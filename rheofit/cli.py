@@ -114,3 +114,82 @@ def models_command():
 
 def main() -> None:  # pragma: no cover - console entry
     app()
+
+
+def load_source(source: Path, model: Optional[str]):
+    """A FitResult from a saved fit (JSON) or from fitting a data file on the spot."""
+    from rheofit.saved import is_saved_fit, load_fit
+
+    if is_saved_fit(source):
+        return load_fit(source, model=model)
+    from rheofit.fitting import fit, fit_all
+    from rheofit.ingest import read_flow_curve
+
+    curve = read_flow_curve(source)
+    return fit(curve, model) if model else fit_all(curve)[0]
+
+
+def make_geometry(diameter, gap, width, length):
+    """Tube or Slit from the CLI's text options (units parsed by the geometry)."""
+    from rheofit.errors import GeometryError
+    from rheofit.flow import Slit, Tube
+
+    if length is None:
+        raise GeometryError("Give the channel length with --length (e.g. --length '30 cm').")
+    if diameter is not None and (gap is None and width is None):
+        return Tube(diameter, length)
+    if diameter is None and gap is not None and width is not None:
+        return Slit(gap, width, length)
+    raise GeometryError(
+        "Give either --diameter (a tube) or both --gap and --width (a slit), not a mix."
+    )
+
+
+def operating_point(flow_rate, pressure_drop) -> dict:
+    """{'flow_rate': SI} or {'pressure_drop': SI} from exactly one option."""
+    from rheofit.errors import GeometryError
+    from rheofit.units import parse_quantity
+
+    if (flow_rate is None) == (pressure_drop is None):
+        raise GeometryError("Give exactly one of --flow-rate (e.g. '10 uL/min') or --pressure-drop (e.g. '25 kPa').")
+    if flow_rate is not None:
+        return {"flow_rate": parse_quantity(flow_rate, "flow_rate")}
+    return {"pressure_drop": parse_quantity(pressure_drop, "pressure")}
+
+
+@app.command("flow")
+@user_errors
+def flow_command(
+    source: Path = typer.Argument(..., help="A sweep (CSV, fitted on the spot) or a saved fit from `rheofit fit --out`."),
+    diameter: Optional[str] = typer.Option(None, "--diameter", "-d", help="Tube inner diameter, e.g. '0.8 mm'."),
+    gap: Optional[str] = typer.Option(None, "--gap", help="Slit gap (height), e.g. '200 um'."),
+    width: Optional[str] = typer.Option(None, "--width", help="Slit width, e.g. '5 mm'."),
+    length: Optional[str] = typer.Option(None, "--length", "-l", help="Channel length, e.g. '30 cm'."),
+    flow_rate: Optional[str] = typer.Option(None, "--flow-rate", "-q", help="Volumetric flow rate, e.g. '10 uL/min' or '1.2 mL/h'."),
+    pressure_drop: Optional[str] = typer.Option(None, "--pressure-drop", "-p", help="Pressure drop over the length, e.g. '25 kPa'."),
+    model: Optional[str] = typer.Option(None, "--model", "-m", help="Model to use (default: the best by AICc)."),
+    density: Optional[str] = typer.Option(None, "--density", help="Fluid density, e.g. '1.05 g/mL' (for the Reynolds number; default 1000 kg/m^3)."),
+    newtonian_viscosity: Optional[str] = typer.Option(None, "--newtonian-viscosity", help="Reference viscosity for the Newtonian comparison, e.g. '50 mPa s' (default: the model's viscosity at the apparent wall shear rate)."),
+    as_json: bool = typer.Option(False, "--json", help="Print the prediction as JSON (SI units)."),
+):
+    """Predict pressure drop or flow rate, wall shear and velocity profile in a tube or slit."""
+    from rheofit.flow import predict
+    from rheofit.units import parse_quantity
+
+    if model is not None:
+        from rheofit.models import get_model
+
+        model = get_model(model).name
+    geometry = make_geometry(diameter, gap, width, length)
+    point = operating_point(flow_rate, pressure_drop)
+    result = load_source(source, model)
+    reference = None if newtonian_viscosity is None else parse_quantity(newtonian_viscosity, "viscosity")
+    if density is not None:
+        point["density"] = parse_quantity(density, "density")
+    prediction = predict(result, geometry, newtonian_viscosity=reference, **point)
+    if as_json:
+        sys.stdout.write(json.dumps(prediction.to_dict(), indent=2) + "\n")
+        return
+    from rheofit.report.console import prediction_block
+
+    _console().print(prediction_block(result, geometry, prediction))
