@@ -54,7 +54,23 @@ _ALIASES: dict[str, str] = {
     "c": "degC",
     "k": "K",
     "°f": "degF",
+    "℃": "degC",
+    "/s": "1/s",
+    "s^(-1)": "1/s",
+    "pa-s": "Pa*s",
+    "mpa-s": "mPa*s",
+    "dyn/cm2": "dyn/cm**2",
+    "dyne/cm2": "dyn/cm**2",
+    "n/m2": "N/m**2",
 }
+
+#: rotational speeds and frequencies: pint reads them as 1/s, but they are no shear rate
+_NOT_SHEAR_RATE = {"rpm", "rev/min", "rps", "rev/s", "rad/s", "hz"}
+
+
+def _key(text: str) -> str:
+    """Lower-case, bracket- and space-free spelling used to look units up."""
+    return text.strip().strip("[]()").strip().lower().replace(" ", "")
 
 
 def _normalise(text: str) -> str:
@@ -94,6 +110,11 @@ def _conversion(unit_text: str, kind: str) -> tuple[float, float]:
     """(scale, offset) with si = value * scale + offset, or raise UnitError."""
     if kind not in SI_UNITS:
         raise UnitError(f"Unknown quantity kind '{kind}'; known: {', '.join(SI_UNITS)}.")
+    if kind == "shear_rate" and _key(unit_text) in _NOT_SHEAR_RATE:
+        raise UnitError(
+            f"Unit '{unit_text}' is a rotational speed or frequency, not a shear rate; "
+            "convert it with the measuring geometry's shear-rate factor or give the shear rate in 1/s."
+        )
     text = _normalise(unit_text)
     if not text and kind == "dimensionless":
         return 1.0, 0.0
