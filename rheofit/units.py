@@ -55,6 +55,7 @@ _ALIASES: dict[str, str] = {
     "k": "K",
     "°f": "degF",
     "℃": "degC",
+    "1/s": "1/s",  # also "1/S" from all-capital headers (S alone would be siemens)
     "/s": "1/s",
     "s^(-1)": "1/s",
     "pa-s": "Pa*s",

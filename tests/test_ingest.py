@@ -255,3 +255,66 @@ def test_set_point_column_loses_to_the_measured_one(tmp_path):
     text = table("Shear rate set [1/s],Shear rate [1/s],Viscosity [Pa s]", [(1, 1.1, 1), (10, 10.2, 1), (100, 99, 1)])
     curve = read_flow_curve(write(tmp_path, "set.csv", text))
     np.testing.assert_allclose(curve.shear_rate, [1.1, 10.2, 99])
+
+
+# --- header words, symbols and unit placements ----------------------------------------------
+
+@pytest.mark.parametrize(
+    "rate_header,value_header,factor,role",
+    [
+        ("Shear rate [1/s]", "Viscosity [Pa s]", 1.0, "viscosity"),
+        ("SHEAR RATE (1/S)", "VISCOSITY (CP)", 1e-3, "viscosity"),  # all capitals
+        ("Rate [s-1]", "Visc. [mPa.s]", 1e-3, "viscosity"),
+        ("gamma_dot [1/s]", "eta [Pa.s]", 1.0, "viscosity"),
+        ("γ̇ [s⁻¹]", "η [mPa·s]", 1e-3, "viscosity"),
+        ("γ [1/s]", "Apparent viscosity [cP]", 1e-3, "viscosity"),
+        ("SR [1/s]", "Dynamic viscosity [P]", 0.1, "viscosity"),
+        ("D [1/s]", "μ [Pa s]", 1.0, "viscosity"),
+        ("Shear rate / s-1", "η / mPa s", 1e-3, "viscosity"),  # quantity / unit
+        ("Shear rate, 1/s", "Viscosity, cP", 1e-3, "viscosity"),
+        ("Shear rate in 1/s", "Viscosity in Pa.s", 1.0, "viscosity"),
+        ("Shear rate 1/s", "Viscosity mPas", 1e-3, "viscosity"),  # unit as the last word
+        ("Shear rate {1/s}", "Viscosity (apparent) [mPa s]", 1e-3, "viscosity"),
+        ("Strain rate [1/s]", "Shear stress [kPa]", 1e3, "stress"),
+        ("Rate [1/s]", "tau [Pa]", 1.0, "stress"),
+        ("Shear Rate [1/s]", "σ [mPa]", 1e-3, "stress"),
+        ("Shear rate [1/s]", "Stress [dyn/cm²]", 0.1, "stress"),  # 1 dyn/cm² = 0.1 Pa (SI Brochure 2019, Table 8)
+        ("Value 1 [1/s]", "Value 2 [mPa·s]", 1e-3, "viscosity"),  # recognised by the unit alone
+    ],
+)
+def test_header_words_and_unit_placements(tmp_path, rate_header, value_header, factor, role):
+    text = f"{rate_header};{value_header}\n1;5\n10;4\n100;3\n"
+    curve = read_flow_curve(write(tmp_path, "h.csv", text))
+    np.testing.assert_allclose(curve.shear_rate, RATES)
+    np.testing.assert_allclose(getattr(curve, role), np.array([5.0, 4.0, 3.0]) * factor, rtol=1e-12)
+    assert not [f for f in curve.flags if f.code == "assumed_unit"]
+
+
+@pytest.mark.parametrize(
+    "extra",
+    ["Time [s]", "t [s]", "Normal stress [Pa]", "Torque [mN m]", "Complex viscosity [Pa s]", "|η*| [Pa s]",
+     "Speed [rpm]", "Frequency [Hz]", "Kinematic viscosity [mm²/s]", "Status"],
+)
+def test_other_columns_are_ignored(tmp_path, extra):
+    text = f"Shear rate [1/s];{extra};Viscosity [Pa s]\n1;7;5\n10;7;4\n100;ok;3\n"
+    curve = read_flow_curve(write(tmp_path, "extra.csv", text))
+    np.testing.assert_allclose(curve.viscosity, [5, 4, 3])
+    assert curve.metadata["import"]["ignored_columns"] == [extra]
+
+
+def test_temperature_in_kelvin_and_time_column(tmp_path):
+    text = "t [s];T [K];Shear rate [1/s];Viscosity [Pa s]\n0;310.15;1;5\n10;310.15;10;4\n20;310.15;100;3\n"
+    curve = read_flow_curve(write(tmp_path, "tk.csv", text))
+    assert curve.temperature == pytest.approx(310.15)
+    assert curve.metadata["import"]["ignored_columns"] == ["t [s]"]
+
+
+def test_pipe_delimiter(tmp_path):
+    curve = read_flow_curve(write(tmp_path, "pipe.txt", "Shear rate [1/s]|Viscosity [Pa s]\n1|5\n10|4\n100|3\n"))
+    np.testing.assert_allclose(curve.viscosity, [5, 4, 3])
+    assert curve.metadata["import"]["delimiter"] == "pipe"
+
+
+def test_whitespace_header_with_single_spaces(tmp_path):
+    curve = read_flow_curve(write(tmp_path, "ws.txt", "Rate Viscosity\n1 5\n10 4\n100 3\n"), viscosity_unit="cP")
+    np.testing.assert_allclose(curve.viscosity, [0.005, 0.004, 0.003])

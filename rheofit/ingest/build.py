@@ -24,7 +24,7 @@ NUMERIC_ROLES = tuple(UNIT_KINDS)
 #: stress and viscosity given together may differ from tau = eta * gamma_dot by this much [-]
 CONSISTENCY_TOLERANCE = 0.02
 #: temperatures further apart than this belong to different curves [K]
-TEMPERATURE_GAP = 1.0
+TEMPERATURE_GAP = 0.5
 #: a curve whose temperatures span more than this is flagged [K]
 TEMPERATURE_SPREAD = 2.0
 #: unitless temperature columns below this are read as degrees Celsius, others as kelvin
@@ -53,6 +53,7 @@ class Context:
     """What a block's curves share: file name, block label and temperature, metadata, flags."""
 
     shown: str
+    blocks: int  # how many blocks the file holds
     block_label: str
     temperature: float | None
     metadata: dict
@@ -185,7 +186,10 @@ def _clusters(temperature: np.ndarray) -> np.ndarray:
 
 
 def _celsius_label(kelvin: float) -> str:
-    return f"{round(float(kelvin) - 273.15, 1):g} °C"
+    """``"25 °C"``: whole degrees when within 0.25 K of one, else one decimal."""
+    celsius = float(kelvin) - 273.15
+    nearest = round(celsius)
+    return f"{nearest:g} °C" if abs(celsius - nearest) < 0.25 else f"{round(celsius, 1):g} °C"
 
 
 def _draft(index, raw, si, cells: Cells, roles, units, context: Context, flags, parts) -> Draft:
@@ -195,7 +199,7 @@ def _draft(index, raw, si, cells: Cells, roles, units, context: Context, flags, 
     keep, dropped = _usable(values, lines)
     flags += dropped
     _check_positive(values, raw, index, keep, lines, roles, context.shown)
-    described = ", ".join(p for p in parts.values() if p)
+    described = ", ".join(p for k, p in parts.items() if p and (k != "block" or context.blocks > 1))
     if keep.sum() < 3:
         raise InputFileError(
             f"File '{context.shown}'{f' (curve {described})' if described else ''} has only "
@@ -283,7 +287,7 @@ def _consistency(shear_rate, viscosity, stress, lines) -> list[Flag]:
                 "which points to a wrong viscosity or stress unit)")
     return [Flag(
         "stress_viscosity_mismatch",
-        f"Stress and viscosity disagree with tau = eta * shear rate by up to {gap[worst]:.1%} "
+        f"Stress and viscosity disagree with tau = eta * shear rate by up to {gap[worst] * 100:.1f} % "
         f"(line {lines[worst]}){hint}; both were used as given, so check their units and columns.",
         {"max_relative_difference": float(gap[worst]), "line": int(lines[worst]),
          "median_ratio": float(np.median(ratio))},

@@ -201,6 +201,8 @@ def flow_roles_in(cells: list[str], overrides: dict) -> int:
     found = set()
     wanted = {str(v).strip().lower(): role for role, v in overrides.items() if isinstance(v, str)}
     for cell in cells:
+        if is_number(cell) or not cell:
+            continue
         name, unit = split_name_unit(cell)
         role = wanted.get(cell.strip().lower()) or wanted.get(name.strip().lower())
         if role is None:

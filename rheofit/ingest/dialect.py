@@ -99,7 +99,7 @@ def sniff(lines: list[str]) -> Dialect | None:
     quoted = any('"' in line for line in sample)
     scores = {delimiter: _score(sample, Dialect(delimiter, ",", quoted)) for delimiter in _CANDIDATES}
     best = max(_CANDIDATES, key=lambda d: scores[d])  # the first of equals wins
-    if scores[best] == 0:
+    if scores[best] == (0, 0):
         return None
     return Dialect(best, _decimal(sample, Dialect(best, ",", quoted)), quoted)
 
@@ -110,16 +110,24 @@ def _sample(lines: list[str], head: int = 400, tail: int = 100) -> list[str]:
     return filled + end if len(lines) > head * 4 else filled
 
 
-def _score(sample: list[str], dialect: Dialect) -> int:
-    """Lines that split into >= 2 cells, all numbers or missing, with the commonest count."""
-    widths = Counter()
+def _score(sample: list[str], dialect: Dialect) -> tuple[int, int]:
+    """(rows of numbers only, rows with two numbers or more), each at the commonest cell count.
+
+    Rows of numbers only decide first; the second count lets a column of
+    text labels ride along when no delimiter gives pure rows of numbers.
+    """
+    strict, relaxed = Counter(), Counter()
     for line in sample:
         cells = dialect.split(line)
         while len(cells) > 2 and cells[-1] == "":
             cells.pop()
-        if len(cells) >= 2 and numeric_cells(cells) >= 1:
-            widths[len(cells)] += 1
-    return max(widths.values(), default=0)
+        if len(cells) < 2:
+            continue
+        if numeric_cells(cells) >= 1:
+            strict[len(cells)] += 1
+        if sum(1 for c in cells if is_number(c)) >= 2:
+            relaxed[len(cells)] += 1
+    return max(strict.values(), default=0), max(relaxed.values(), default=0)
 
 
 def _decimal(sample: list[str], dialect: Dialect) -> str:
@@ -128,8 +136,6 @@ def _decimal(sample: list[str], dialect: Dialect) -> str:
     commas = dots = 0
     for line in sample:
         cells = dialect.split(line)
-        if numeric_cells(cells) < 1:
-            continue
         commas += sum(1 for c in cells if _COMMA_DECIMAL.match(c))
         dots += sum(1 for c in cells if _DOT_DECIMAL.match(c))
     return "," if commas > dots else "."

@@ -23,6 +23,7 @@ from rheofit.ingest.dialect import Dialect, clean, is_number, numeric_cells
 _NUMERIC_BYTES = b"0123456789 \t.,;:|+-eE\"'\n\r"
 _TEXT = re.compile(r"[^\d\s.,;:|+\-eE\"']")
 _DIGIT = re.compile(r"\d")
+_NO_DIGITS = str.maketrans("", "", "0123456789")
 _TEXT_TABLE = np.ones(256, dtype=bool)
 _TEXT_TABLE[list(_NUMERIC_BYTES)] = False
 _DIGIT_TABLE = np.zeros(256, dtype=bool)
@@ -71,7 +72,7 @@ class Layout:
 def find_layout(lines: list[str], dialect: Dialect, overrides: dict, shown: str) -> Layout:
     """Blocks of ``lines``; raises InputFileError for a header without data."""
     scan = Scan.of(lines)
-    headers = [int(i) for i in np.flatnonzero(scan.text) if _is_header(lines[i], dialect, overrides)]
+    headers = _headers(lines, scan, dialect, overrides)
     if headers:
         begin = headers[0]
     else:
@@ -99,8 +100,27 @@ def _header_only(shown: str, index: int, lines: list[str]) -> InputFileError:
     )
 
 
+def _headers(lines: list[str], scan: Scan, dialect: Dialect, overrides: dict) -> list[int]:
+    """Indices of the header lines.
+
+    Lines with text are judged once per skeleton (the line without its
+    digits), so that a column of labels or NaNs costs little on large files.
+    """
+    judged: dict[str, bool] = {}
+    found = []
+    for i in np.flatnonzero(scan.text):
+        skeleton = lines[i].translate(_NO_DIGITS)
+        if skeleton not in judged:
+            judged[skeleton] = _is_header(lines[i], dialect, overrides)
+        if judged[skeleton]:
+            found.append(int(i))
+    return found
+
+
 def _is_header(line: str, dialect: Dialect, overrides: dict) -> bool:
     cells = _trimmed(dialect.split_header(line))
+    if len(cells) < 2 and dialect.delimiter is None:
+        cells = line.split()  # names with single spaces between them
     return len(cells) >= 2 and flow_roles_in(cells, overrides) >= 2
 
 
@@ -171,9 +191,12 @@ def _data_rows(lines, begin: int, stop: int, dialect: Dialect, width: int, scan:
 
 
 def _is_data(line: str, dialect: Dialect, width: int | None) -> bool:
-    """A row of the table: it holds a number and, unless ragged, ``width`` cells."""
+    """A row of the table: it holds a digit and ``width`` cells (with width None: a number)."""
     if not _DIGIT.search(line):
         return False
+    if width is not None and dialect.delimiter is not None and not dialect.quoted:
+        delimiter = dialect.delimiter
+        return line.rstrip().rstrip(delimiter).count(delimiter) + 1 == width
     cells = _trimmed(dialect.split(line))
     if width is None:
         return len(cells) >= 2 and numeric_cells(cells) >= 1

@@ -10,6 +10,7 @@ instrument files) are refused with a hint to export them as text.
 from __future__ import annotations
 
 import codecs
+import unicodedata
 from pathlib import Path
 
 from rheofit.errors import InputFileError
@@ -47,6 +48,8 @@ def read_lines(path: Path, shown: str) -> tuple[list[str], str]:
         raise InputFileError(f"File '{shown}' is empty; export the sweep again or pick another file.")
     encoding = _encoding(data, shown)
     text = data.decode(encoding)
+    if not _textual(text[:4096]):
+        raise _binary(shown, "binary data")
     text = text.replace("\r\n", "\n").replace("\r", "\n").lstrip("\ufeff")
     return text.split("\n"), encoding
 
@@ -84,6 +87,12 @@ def _encoding(data: bytes, shown: str) -> str:
         except UnicodeDecodeError:
             continue
     return "latin-1"
+
+
+def _textual(head: str) -> bool:
+    """Few control, unassigned or private-use characters: real text."""
+    odd = sum(1 for ch in head if ch not in "\t\n\r\f\x1a" and unicodedata.category(ch) in ("Cc", "Cn", "Co", "Cs"))
+    return odd <= 0.05 * max(1, len(head))
 
 
 def _utf16_without_bom(head: bytes, shown: str) -> str:

@@ -38,13 +38,17 @@ def segments(shear_rate: np.ndarray) -> np.ndarray:
 
 
 def _fill_flat_steps(sign: np.ndarray) -> np.ndarray:
-    """Steps that keep the shear rate take the direction of the step before (or after)."""
+    """Steps that keep the shear rate take the direction of the next step (at the end, the last).
+
+    So a top shear rate measured twice (end of the up ramp, start of the down
+    ramp) puts its second point in the down segment.
+    """
     nonzero = np.flatnonzero(sign)
     if nonzero.size == 0:
         return np.ones_like(sign)
-    index = np.maximum.accumulate(np.where(sign != 0, np.arange(sign.size), -1))
-    index[index < 0] = nonzero[0]
-    return sign[index]
+    following = np.minimum.accumulate(np.where(sign != 0, np.arange(sign.size), sign.size)[::-1])[::-1]
+    following[following == sign.size] = nonzero[-1]
+    return sign[following]
 
 
 def describe(shear_rate: np.ndarray, segment: np.ndarray) -> str:
@@ -76,7 +80,7 @@ def hysteresis(shear_rate, viscosity, segment, lines) -> Flag | None:
     gap, point, a = worst
     return Flag(
         "hysteresis",
-        f"Viscosity differs by up to {gap:.0%} between sweep segments {a} and {a + 1} "
+        f"Viscosity differs by up to {gap * 100:.0f} % between sweep segments {a} and {a + 1} "
         f"(at {shear_rate[point]:.3g} 1/s, line {lines[point]}): a hysteresis loop, a sign of "
         "time-dependent (thixotropic) behaviour or of points taken before steady state; "
         "fit one segment (curve.segment) or allow more time per point.",
