@@ -174,13 +174,13 @@ class LogStressProblem:
             jac[:, i] = (self.residual(up) - self.residual(down)) / (up[i] - down[i])
         return jac
 
-    def covariance(self, x, rss: float) -> np.ndarray | None:
+    def covariance(self, jac, rss: float) -> np.ndarray | None:
         """Covariance of x: s^2 (J^T J)^-1 with s^2 = RSS / (N - k).
 
-        Returns None when J^T J is singular or too ill-conditioned for its
-        inverse to mean anything (parameters not separately identifiable).
+        ``jac`` is :meth:`jacobian` at the optimum.  Returns None when J^T J
+        is singular or too ill-conditioned for its inverse to mean anything
+        (parameters not separately identifiable).
         """
-        jac = self.jacobian(x)
         normal = jac.T @ jac
         scale = np.sqrt(np.diag(normal))
         if not np.all(np.isfinite(normal)) or np.any(scale == 0):

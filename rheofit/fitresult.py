@@ -13,12 +13,13 @@ bound the parameter on one side only (or on neither).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
 from rheofit.curve import Flag
 from rheofit.errors import FitError
+from rheofit.fitreport import text_report
 from rheofit.fluid import Fluid
 from rheofit.models import ViscosityModel, get_model
 
@@ -130,7 +131,7 @@ class Covariance:
                    np.array(d["center"], dtype=float), matrix)
 
 
-@dataclass(frozen=True, eq=False)
+@dataclass(frozen=True, eq=False, repr=False)
 class FitResult:
     """One viscosity model fitted to one flow curve (SI throughout).
 
@@ -162,7 +163,6 @@ class FitResult:
     flags: tuple[Flag, ...] = ()
     name: str = ""
     source: str = ""
-    extra: dict = field(default_factory=dict)
 
     # --- use ----------------------------------------------------------------
 
@@ -239,7 +239,8 @@ class FitResult:
             fluid=Fluid(declaration, dict(values), rng, name, flags),
             shear_rate_range=rng, n_points=int(d.get("n_points", 0)),
             n_params=int(d.get("n_params", len(params))),
-            aic=_float(d.get("aic")), aicc=_float(d.get("aicc")), bic=_float(d.get("bic")),
+            aic=_criterion(d.get("aic")), aicc=_criterion(d.get("aicc")),
+            bic=_criterion(d.get("bic")),
             rss_log=_float(d.get("rss_log")), rms_log_residual=_float(d.get("rms_log_residual")),
             r_squared_log=_float(d.get("r_squared_log")),
             residuals=_array(d.get("residuals")), shear_rate=_array(d.get("shear_rate")),
@@ -249,9 +250,12 @@ class FitResult:
     # --- text -------------------------------------------------------------------
 
     def __str__(self) -> str:
-        from rheofit.fitreport import text_report
-
         return text_report(self)
+
+    def __repr__(self) -> str:
+        values = ", ".join(f"{k}={v:.4g}" for k, v in self.values.items())
+        return (f"FitResult(model={self.model!r}, name={self.name!r}, {values}, "
+                f"aicc={self.aicc:.4g}, flags={[f.code for f in self.flags]})")
 
 
 def _json_safe(value):
@@ -275,6 +279,11 @@ def _flag_dict(flag: Flag) -> dict:
 
 def _float(value) -> float:
     return math.nan if value is None else float(value)
+
+
+def _criterion(value) -> float:
+    """An information criterion; null (written for inf) reads back as inf, the worst."""
+    return math.inf if value is None else float(value)
 
 
 def _array(values) -> np.ndarray:

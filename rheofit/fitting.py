@@ -43,7 +43,7 @@ from rheofit.curve import Flag
 from rheofit.errors import FitError, ParameterError, choice_message
 from rheofit.fitproblem import LogStressProblem
 from rheofit.fitresult import Covariance, FitResult, ParameterEstimate
-from rheofit.fitstats import RSS_FLOOR_PER_POINT, floored_rss, information_criteria, profile_threshold, runs_test
+from rheofit.fitstats import floored_rss, information_criteria, profile_threshold, runs_test
 from rheofit.fluid import Fluid
 from rheofit.models import MODELS, ViscosityModel, get_model
 
@@ -86,6 +86,11 @@ OPEN_END_REASONS: dict[tuple[str, str], str] = {
 
 # --- input checks -------------------------------------------------------------
 
+def _label(curve) -> str:
+    """The curve's name for messages (its source, or 'unnamed', without one)."""
+    return curve.name or curve.source or "unnamed"
+
+
 def _check_interval_method(method: str) -> None:
     if method not in INTERVAL_METHODS:
         raise ParameterError(choice_message("interval method", str(method), INTERVAL_METHODS))
@@ -100,7 +105,7 @@ def _checked_data(curve) -> tuple[np.ndarray, np.ndarray]:
         if bad.size:
             i = int(bad[0])
             raise FitError(
-                f"Curve '{curve.name}': the {what} at point {i + 1} "
+                f"Curve '{_label(curve)}': the {what} at point {i + 1} "
                 f"(shear rate {curve.shear_rate[i]:g} 1/s) is {values[i]:g} {unit}; "
                 f"fitting in log space needs every {what} to be a positive number. "
                 "Remove or correct that point."
@@ -113,7 +118,7 @@ def _check_enough_points(declaration: ViscosityModel, curve) -> None:
     if n < k + 1:
         raise FitError(
             f"The {declaration.name} model has {k} parameters and needs at least {k + 1} points, "
-            f"the curve '{curve.name}' has {n}. Measure more shear rates or choose a model "
+            f"the curve '{_label(curve)}' has {n}. Measure more shear rates or choose a model "
             f"with fewer parameters."
         )
 
@@ -138,7 +143,7 @@ def _best_fit(problem: LogStressProblem, curve) -> tuple[np.ndarray, float]:
     try:
         guess = problem.declaration.guess(problem.shear_rate, np.exp(problem.log_stress))
     except (ValueError, ArithmeticError, np.linalg.LinAlgError) as exc:
-        raise FitError(f"No starting values for the {name} model on curve '{curve.name}': {exc}.")
+        raise FitError(f"No starting values for the {name} model on curve '{_label(curve)}': {exc}.")
     best, best_rss, messages = None, math.inf, []
     for x0 in _starts(problem, guess):
         try:
@@ -149,7 +154,7 @@ def _best_fit(problem: LogStressProblem, curve) -> tuple[np.ndarray, float]:
         if rss < best_rss:
             best, best_rss = x, rss
     if best is None:
-        raise FitError(f"The {name} model could not be fitted to curve '{curve.name}': "
+        raise FitError(f"The {name} model could not be fitted to curve '{_label(curve)}': "
                        f"{messages[0] if messages else 'the optimiser failed'}.")
     _check_model_stress(problem, best, curve)
     return best, best_rss
@@ -161,7 +166,7 @@ def _check_model_stress(problem: LogStressProblem, x, curve) -> None:
         model = problem.declaration.stress(problem.shear_rate, **values)
     if not np.all(np.isfinite(model) & (model > 0)):
         raise FitError(
-            f"The {problem.declaration.name} model could not be fitted to curve '{curve.name}': "
+            f"The {problem.declaration.name} model could not be fitted to curve '{_label(curve)}': "
             "at its best parameters it gives no positive, finite stress at some measured shear "
             "rates. Try another model."
         )
@@ -176,12 +181,16 @@ def _stderrs(cov, k: int) -> list[float | None]:
     return [math.sqrt(v) if v >= 0 and math.isfinite(v) else None for v in np.diag(cov)]
 
 
-def _interval_ends(problem, x, rss, cov, method):
-    """((low End, high End) per parameter, steps, better point or None)."""
+def _interval_ends(problem, x, rss, jac, cov, method):
+    """((low End, high End) per parameter, steps, better point or None).
+
+    A profile point counts as a better optimum only when it lowers the RSS
+    by more than 1 % of the threshold increment; smaller gains are the
+    optimiser's tolerance, not a different minimum.
+    """
     rss_min = floored_rss(rss, problem.n_points)
-    better_below = rss * (1.0 - 1e-7) - problem.n_points * RSS_FLOOR_PER_POINT
     threshold = profile_threshold(problem.n_points, problem.n_params)
-    jac = problem.jacobian(x)
+    better_below = rss - 0.01 * (threshold - 1.0) * rss_min
     ses = _stderrs(cov, problem.n_params)
     ends, steps = [], []
     for j in range(problem.n_params):
@@ -213,12 +222,13 @@ def _optimum_with_intervals(problem, curve, method):
     """Fit, then intervals; restart from any better point the profiles find."""
     x, rss = _best_fit(problem, curve)
     for _ in range(3):
-        cov = problem.covariance(x, floored_rss(rss, problem.n_points))
-        ends, steps, better = _interval_ends(problem, x, rss, cov, method)
+        jac = problem.jacobian(x)
+        cov = problem.covariance(jac, floored_rss(rss, problem.n_points))
+        ends, steps, better = _interval_ends(problem, x, rss, jac, cov, method)
         if better is None:
             return x, rss, cov, ends, steps
         x, rss, _ = problem.solve(better)
-    raise FitError(f"The {problem.declaration.name} fit to curve '{curve.name}' kept finding "
+    raise FitError(f"The {problem.declaration.name} fit to curve '{_label(curve)}' kept finding "
                    "lower minima while computing intervals; the optimum is not stable.")
 
 
@@ -420,6 +430,6 @@ def fit_all(curve, models=None, *, interval_method: str = "auto") -> FitRanking:
             skipped.append((declaration.name, str(exc)))
     if not results:
         reasons = " ".join(reason for _, reason in skipped)
-        raise FitError(f"No model could be fitted to curve '{curve.name}'. {reasons}")
+        raise FitError(f"No model could be fitted to curve '{_label(curve)}'. {reasons}")
     results.sort(key=lambda r: (not math.isfinite(r.aicc), r.aicc))
     return FitRanking(results, skipped)

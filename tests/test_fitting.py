@@ -107,6 +107,15 @@ def test_synthetic_recovery(model):
     assert not result.flags_with("at_bound")
 
 
+@pytest.mark.parametrize("model", list(MODELS))
+def test_noise_free_recovery(model):
+    true, (low, high) = RECOVERY[model]
+    result = fit(synthetic(model, true, low, high, 30, noise=0.0), model)
+    assert result.values == pytest.approx(true, rel=1e-8)
+    assert result.rms_log_residual < 1e-9
+    assert not result.flags_with("residual_pattern")
+
+
 # --- intervals against closed forms -----------------------------------------------------
 
 def test_profile_interval_equals_t_interval_for_a_linear_model(power_law_fit):
@@ -164,7 +173,21 @@ def test_unreached_zero_shear_plateau_leaves_eta0_open(unresolved_carreau):
     messages = [f.message for f in unresolved_carreau.flags_with("unresolved")]
     assert any(m.startswith("eta0 is not resolved by the data") and "upper 95 % bound is open" in m
                for m in messages)
+    # lam could only grow past its declared range to keep the ridge going
+    assert "lam reaches the edge of its allowed range" in eta0.note
     assert unresolved_carreau.params["n"].resolved
+
+
+def test_unapproached_plateau_and_onset_are_open(unresolved_carreau):
+    # eta(1e3 1/s) ~ 0.4 Pa*s, so eta_inf = 0 is as good as any small value,
+    # and the onset of thinning (1/lam) may lie anywhere below 1 1/s.
+    eta_inf, lam = unresolved_carreau.params["eta_inf"], unresolved_carreau.params["lam"]
+    assert eta_inf.ci95[0] is None and eta_inf.ci95[1] is not None
+    assert lam.ci95[1] is None and lam.ci95[0] is not None
+    open_sides = {f.data["parameter"]: f.data["open"]
+                  for f in unresolved_carreau.flags_with("unresolved")}
+    assert open_sides == {"eta0": ["upper"], "eta_inf": ["lower"], "lam": ["upper"]}
+    assert "high-shear plateau is never approached" in eta_inf.note
 
 
 def test_yield_stress_far_below_the_data_is_not_resolved():
