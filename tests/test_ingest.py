@@ -318,3 +318,15 @@ def test_pipe_delimiter(tmp_path):
 def test_whitespace_header_with_single_spaces(tmp_path):
     curve = read_flow_curve(write(tmp_path, "ws.txt", "Rate Viscosity\n1 5\n10 4\n100 3\n"), viscosity_unit="cP")
     np.testing.assert_allclose(curve.viscosity, [0.005, 0.004, 0.003])
+
+
+def test_unit_override_rescues_an_unreadable_file_unit(tmp_path):
+    path = write(tmp_path, "sweep.csv", table("Shear rate [1/s],Viscosity [centi-whatever]", zip(RATES, VALUES)))
+    curve = read_flow_curve(path, viscosity_unit="cP")
+    np.testing.assert_allclose(curve.viscosity, [0.25, 0.12, 0.06])
+    assert [f.code for f in curve.flags] == ["unit_override"]
+
+
+def test_unit_in_brackets_without_a_name(tmp_path):
+    curve = read_flow_curve(write(tmp_path, "bare_units.csv", table("[1/s];[mPa s]", zip(RATES, VALUES), ";")))
+    np.testing.assert_allclose(curve.viscosity, [0.25, 0.12, 0.06])

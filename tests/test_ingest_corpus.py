@@ -127,6 +127,7 @@ def test_blocks_with_temperature_lines_and_section_titles(tmp_path):
     )
     curves = read_flow_curves(write(tmp_path, "runs.txt", text))
     assert [c.temperature for c in curves] == pytest.approx([293.15, 313.15])
+    assert [c.name for c in curves] == ["runs 20 °C", "runs 40 °C"]
     np.testing.assert_allclose(curves[1].viscosity, [1.0, 0.4, 0.15])  # tau / rate by hand
 
 
@@ -304,6 +305,7 @@ def test_decimal_comma_among_decimal_points_gets_a_hint(tmp_path):
         (b"\x00\x01\x02\x03\x00\xff\x00\x10" * 64, "binary data"),
         (bytes(range(1, 32)) * 20, "binary data"),
         (codecs.BOM_UTF8 + b"\xff\xfe\xfa\x80", "binary data"),
+        (b"\x00\x00\x07\x01" * 64, "binary data"),  # zero bytes on both sides: not UTF-16
     ],
 )
 def test_binary_files(tmp_path, data, what):
@@ -369,3 +371,16 @@ def test_fewer_than_three_points(tmp_path):
 def test_fewer_than_three_points_names_the_curve(tmp_path):
     text = "Shear rate [1/s],Viscosity [Pa s],T [°C]\n1,2,20\n10,1,20\n100,0.5,20\n1,2,40\n10,1,40\n"
     assert "(curve 40 °C)" in _error(write(tmp_path, "few.csv", text))
+
+
+def test_temperature_column_with_gaps(tmp_path):
+    text = "Shear rate [1/s];Viscosity [Pa s];Temperature [°C]\n1;3;--\n10;2;25.0\n100;1;\n"
+    curve = read_flow_curve(write(tmp_path, "tgaps.csv", text))
+    np.testing.assert_allclose(curve.viscosity, [3, 2, 1])  # no point lost for a missing temperature
+    assert curve.temperature == pytest.approx(298.15)
+
+
+def test_temperature_column_left_empty(tmp_path):
+    text = "Shear rate [1/s];Viscosity [Pa s];Temperature [°C]\n1;3;\n10;2;\n100;1;\n"
+    curve = read_flow_curve(write(tmp_path, "tnone.csv", text))
+    assert curve.temperature is None and len(curve) == 3

@@ -1,7 +1,7 @@
 """Property tests: invented flow curves written in every supported dialect read back unchanged.
 
 Dialect = delimiter x decimal mark x encoding x unit spelling x units in the
-header or in a row of their own x line ends.  Numbers are written with repr
+header or in a row of their own (in brackets, parentheses or bare) x line ends.  Numbers are written with repr
 precision, so they must come back to rtol 1e-9 after the unit conversion.
 Conversion factors: 1 cP = 1 mPa s = 1e-3 Pa s, 1 P = 0.1 Pa s (BIPM SI
 Brochure, 9th ed. (2019), Table 8); 1 kPa = 1e3 Pa (SI prefix kilo, SI
@@ -39,13 +39,13 @@ def cell(value: float, decimal: str) -> str:
     return text.replace(".", ",") if decimal == "," else text
 
 
-def render(rates, values, quantity, rate_unit, value_unit, delimiter, decimal, units_row, preamble) -> str:
+def render(rates, values, quantity, rate_unit, value_unit, delimiter, decimal, units_row, brackets, preamble) -> str:
     names = ["Shear rate", "Viscosity" if quantity == "viscosity" else "Shear stress"]
-    units = [rate_unit, value_unit]
+    units = [brackets.format(rate_unit), brackets.format(value_unit)]
     if units_row:
-        lines = [delimiter.join(names), delimiter.join(f"[{u}]" for u in units)]
+        lines = [delimiter.join(names), delimiter.join(units)]
     else:
-        lines = [delimiter.join(f"{n} [{u}]" for n, u in zip(names, units))]
+        lines = [delimiter.join(f"{n} {u}" for n, u in zip(names, units))]
     lines += [delimiter.join((cell(g, decimal), cell(v, decimal))) for g, v in zip(rates, values)]
     return "".join(f"Note: {k}\n" for k in range(preamble)) + "\n".join(lines) + "\n"
 
@@ -61,14 +61,15 @@ def render(rates, values, quantity, rate_unit, value_unit, delimiter, decimal, u
     decimal=st.sampled_from([".", ","]),
     encoding=st.sampled_from(ENCODINGS),
     units_row=st.booleans(),
+    brackets=st.sampled_from(["[{}]", "({})", "{}"]),
     crlf=st.booleans(),
     preamble=st.integers(min_value=0, max_value=3),
 )
 def test_round_trip(tmp_path, sweep, quantity, rate_unit, viscosity_unit, stress_unit, delimiter, decimal,
-                    encoding, units_row, crlf, preamble):
+                    encoding, units_row, brackets, crlf, preamble):
     assume(not (delimiter == "," and decimal == ","))  # ambiguous unless quoted
     value_unit = viscosity_unit if quantity == "viscosity" else stress_unit
-    text = render(*sweep, quantity, rate_unit[0], value_unit[0], delimiter, decimal, units_row, preamble)
+    text = render(*sweep, quantity, rate_unit[0], value_unit[0], delimiter, decimal, units_row, brackets, preamble)
     try:
         data = text.replace("\n", "\r\n" if crlf else "\n").encode(encoding)
     except UnicodeEncodeError:  # e.g. s⁻¹ has no cp1252 byte

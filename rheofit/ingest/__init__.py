@@ -197,7 +197,7 @@ def _labels(drafts: list[Draft]) -> list[str]:
     if len(drafts) == 1:
         return [""]
     keys = [k for k in ("block", "label", "temperature") if len({d.parts.get(k, "") for d in drafts}) > 1]
-    labels = [", ".join(d.parts[k] for k in keys if d.parts[k]) for d in drafts]
+    labels = [", ".join(dict.fromkeys(d.parts[k] for k in keys if d.parts[k])) for d in drafts]
     seen = {}
     for i, label in enumerate(labels):
         seen[label] = seen.get(label, 0) + 1

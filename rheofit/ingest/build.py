@@ -18,7 +18,7 @@ from rheofit.errors import InputFileError, UnitError
 from rheofit.ingest.columns import UNIT_KINDS, Column
 from rheofit.ingest.sweep import describe, hysteresis, segments
 from rheofit.ingest.table import Cells
-from rheofit.units import to_si
+from rheofit.units import is_unit_of, to_si
 
 NUMERIC_ROLES = tuple(UNIT_KINDS)
 #: stress and viscosity given together may differ from tau = eta * gamma_dot by this much [-]
@@ -71,7 +71,7 @@ def block_drafts(cells: Cells, roles: dict[str, Column], context: Context) -> li
     drafts = []
     for label, cluster, index in groups:
         parts = {"block": context.block_label, "label": label or "", "temperature": ""}
-        if "temperature" in si:
+        if "temperature" in si and np.isfinite(si["temperature"][index]).any():
             parts["temperature"] = _celsius_label(np.nanmean(si["temperature"][index]))
         elif context.temperature is not None:
             parts["temperature"] = _celsius_label(context.temperature)
@@ -92,7 +92,7 @@ def _units(cells: Cells, roles, context: Context) -> tuple[dict[str, str], list[
             unit = _assumed(role, cells, column)
             flags.append(_assumed_flag(role, column, unit))
         _check_unit(unit, role, column, given, context.shown)
-        if given and column.unit and _scale(given, role) != _scale(column.unit, role):
+        if given and column.unit and _differ(given, column.unit, role):
             flags.append(Flag(
                 "unit_override",
                 f"Column {column.shown} states '{column.unit}', but {role}_unit='{given}' was used as asked.",
@@ -125,8 +125,12 @@ def _assumed_flag(role: str, column: Column, unit: str) -> Flag:
     return Flag("assumed_unit", message, {"role": role, "column": column.text, "unit": unit})
 
 
-def _scale(unit: str, role: str) -> tuple[float, float]:
-    return float(to_si(1.0, unit, UNIT_KINDS[role])), float(to_si(0.0, unit, UNIT_KINDS[role]))
+def _differ(given: str, written: str, role: str) -> bool:
+    """True when the caller's unit converts differently from the file's (or the file's is unreadable)."""
+    kind = UNIT_KINDS[role]
+    if not is_unit_of(written, kind):
+        return True
+    return (to_si(1.0, given, kind), to_si(0.0, given, kind)) != (to_si(1.0, written, kind), to_si(0.0, written, kind))
 
 
 def _check_unit(unit: str, role: str, column: Column, given, shown: str) -> None:
@@ -229,10 +233,11 @@ def _draft(index, raw, si, cells: Cells, roles, units, context: Context, flags, 
 
 
 def _usable(values: dict, lines) -> tuple[np.ndarray, list[Flag]]:
-    """Rows with every value present and a positive shear rate; flags for the others."""
+    """Rows with shear rate and viscosity/stress present and a positive shear rate; flags for the others."""
     missing = np.zeros(lines.size, dtype=bool)
-    for v in values.values():
-        missing |= ~np.isfinite(v)
+    for role, v in values.items():
+        if role != "temperature":  # a missing temperature does not spoil the point
+            missing |= ~np.isfinite(v)
     flags = []
     if missing.any():
         flags.append(_dropped("missing_values", "with a missing value", missing, lines))
@@ -295,9 +300,9 @@ def _consistency(shear_rate, viscosity, stress, lines) -> list[Flag]:
 
 
 def _temperature(values, fallback) -> tuple[float | None, list[Flag]]:
-    if values is None:
+    if values is None or not np.isfinite(values).any():
         return fallback, []
-    spread = float(values.max() - values.min())
+    spread = float(np.nanmax(values) - np.nanmin(values))
     flags = []
     if spread > TEMPERATURE_SPREAD:
         flags.append(Flag(
@@ -306,4 +311,4 @@ def _temperature(values, fallback) -> tuple[float | None, list[Flag]]:
             "temperature, so check that the sweep was held at one temperature.",
             {"spread": spread},
         ))
-    return float(values.mean()), flags
+    return float(np.nanmean(values)), flags

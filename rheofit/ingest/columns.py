@@ -113,7 +113,7 @@ def split_name_unit(text: str) -> tuple[str, str | None]:
     """``"Viscosity [mPa·s]"`` -> ``("Viscosity", "mPa·s")``; no unit -> ``(text, None)``."""
     text = text.strip()
     match = _BRACKETED.match(text)
-    if match and match.group("name") and _looks_like_unit(match.group("unit"), match.group("open")):
+    if match and _looks_like_unit(match.group("unit"), match.group("open")):
         return match.group("name").strip(), match.group("unit").strip() or None
     for separator in _SEPARATORS:
         head, found, tail = text.partition(separator)

@@ -81,7 +81,7 @@ def find_layout(lines: list[str], dialect: Dialect, overrides: dict, shown: str)
     blocks, preamble = [], [line for line in lines[:begin] if line.strip()]
     for k, start in enumerate(headers):
         stop = headers[k + 1] if k + 1 < len(headers) else len(lines)
-        block = _block(lines, start, stop, dialect, scan)
+        block = _block(lines, start, stop, dialect, scan) if start is not None else _headless(lines, begin, dialect, scan)
         if block.rows:
             block.preamble, preamble = preamble, []
             blocks.append(block)
@@ -114,7 +114,8 @@ def _headers(lines: list[str], scan: Scan, dialect: Dialect, overrides: dict) ->
             judged[skeleton] = _is_header(lines[i], dialect, overrides)
         if judged[skeleton]:
             found.append(int(i))
-    return found
+    units_rows = {i for i in found if i - 1 in found and is_units_row(dialect.split_header(lines[i]))}
+    return [i for i in found if i not in units_rows]
 
 
 def _is_header(line: str, dialect: Dialect, overrides: dict) -> bool:
@@ -126,7 +127,7 @@ def _is_header(line: str, dialect: Dialect, overrides: dict) -> bool:
 
 def _header_above_numbers(lines: list[str], dialect: Dialect) -> tuple[int | None, int]:
     """(index of the header above the first row of numbers or None, where the block begins)."""
-    first = next(i for i, line in enumerate(lines) if _is_data(line, dialect, None))
+    first = _first_data(lines, dialect)
     above = first - 1
     if above >= 1 and is_units_row(_trimmed(dialect.split_header(lines[above]))):
         above -= 1
@@ -138,22 +139,32 @@ def _header_above_numbers(lines: list[str], dialect: Dialect) -> tuple[int | Non
     return None, first
 
 
-def _block(lines: list[str], start: int | None, stop: int, dialect: Dialect, scan: Scan) -> Block:
-    """The block whose header is at ``start`` (None: no header, data from line 0)."""
-    if start is None:
-        first = next(i for i, line in enumerate(lines) if _is_data(line, dialect, None))
-        width = len(_trimmed(dialect.split(lines[first])))
-        block = Block(None, None, None, None, width)
-        begin = first
-    else:
-        header = _trimmed(dialect.split_header(lines[start]))
-        width = _data_width(lines, start + 1, stop, dialect) or len(header)
-        header = _trimmed(dialect.split_header(lines[start], width))
-        block = Block(start, header, None, None, len(header))
-        begin = start + 1
-        if begin < stop and is_units_row(dialect.split_header(lines[begin], len(header))):
-            block.units_line, block.units = begin, dialect.split_header(lines[begin], len(header))
-            begin += 1
+def _first_data(lines: list[str], dialect: Dialect) -> int:
+    """Index of the first row of numbers (or, failing that, of two numbers among text)."""
+    for i, line in enumerate(lines):
+        if _is_data(line, dialect, None):
+            return i
+    two_numbers = (i for i, line in enumerate(lines) if sum(1 for c in dialect.split(line) if is_number(c)) >= 2)
+    return next(two_numbers, 0)  # sniff() found such a line
+
+
+def _headless(lines: list[str], begin: int, dialect: Dialect, scan: Scan) -> Block:
+    """The one block of a file without a header, from its first row of numbers."""
+    block = Block(None, None, None, None, len(_trimmed(dialect.split(lines[begin]))))
+    block.rows = _data_rows(lines, begin, len(lines), dialect, block.width, scan)
+    return block
+
+
+def _block(lines: list[str], start: int, stop: int, dialect: Dialect, scan: Scan) -> Block:
+    """The block whose header is on line index ``start``, with an optional units row."""
+    header = _trimmed(dialect.split_header(lines[start]))
+    width = _data_width(lines, start + 1, stop, dialect) or len(header)
+    header = _trimmed(dialect.split_header(lines[start], width))
+    block = Block(start, header, None, None, len(header))
+    begin = start + 1
+    if begin < stop and is_units_row(dialect.split_header(lines[begin], len(header))):
+        block.units_line, block.units = begin, dialect.split_header(lines[begin], len(header))
+        begin += 1
     block.rows = _data_rows(lines, begin, stop, dialect, block.width, scan)
     return block
 
@@ -223,7 +234,7 @@ def _trimmed(cells: list[str]) -> list[str]:
 
 def no_table(lines: list[str], shown: str, overrides: dict) -> InputFileError:
     """The error for a file in which no delimiter gives rows of two or more numbers."""
-    if any(is_number(clean(line).replace(" ", "")) for line in lines if line.strip()):
+    if sum(1 for line in lines if is_number(clean(line))) >= 3:
         return InputFileError(
             f"File '{shown}' holds a single column of numbers; a flow curve needs shear rate and "
             "viscosity (or stress) in separate columns, separated by commas, semicolons, tabs or spaces."
