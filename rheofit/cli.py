@@ -24,7 +24,7 @@ app = typer.Typer(
 def _console(stderr: bool = False):
     from rich.console import Console
 
-    return Console(stderr=stderr, soft_wrap=False)
+    return Console(stderr=stderr, soft_wrap=stderr)
 
 
 def user_errors(command):

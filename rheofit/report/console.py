@@ -44,32 +44,43 @@ def models_list() -> Text:
     return text
 
 
+_SHORT_FLAG = {"at_bound": "B", "few_points": "F", "residual_pattern": "P", "unresolved": "U"}
+_FLAG_LEGEND = "flags: B parameter at a bound, F few points, P residual pattern, U unresolved parameter"
+
+
 def ranking_table(results) -> Table:
     """Models ranked by AICc with Akaike weights (Burnham & Anderson 2002)."""
     best = results[0].aicc
     weights = [math.exp(-0.5 * (r.aicc - best)) for r in results]
     total = sum(weights)
-    table = Table(title="Ranking (AICc, lower is better)")
-    for col in ("#", "model", "k", "AICc", "ΔAICc", "weight", "BIC", "rms log-residual", "flags"):
-        table.add_column(col, justify="right" if col not in ("model", "flags") else "left")
+    table = Table(title="Ranking (AICc, lower is better)", caption="rms(ln): typical relative misfit; weight: Akaike weight\n" + _FLAG_LEGEND)
+    table.add_column("#", justify="right")
+    table.add_column("model", no_wrap=True)
+    for col in ("k", "AICc", "ΔAICc", "weight", "BIC", "rms(ln)"):
+        table.add_column(col, justify="right", no_wrap=True)
+    table.add_column("flags", min_width=5)
     for i, (r, w) in enumerate(zip(results, weights), 1):
+        codes = sorted({_SHORT_FLAG.get(f.code, f.code) for f in r.flags if f.code in _SHORT_FLAG})
         table.add_row(
-            str(i), r.model, str(len(r.params)), f"{r.aicc:.2f}", f"{r.aicc - best:.2f}",
-            f"{w / total:.3f}", f"{r.bic:.2f}", f"{r.rms_log_residual:.4f}",
-            ", ".join(sorted({f.code for f in r.flags})) or "—",
+            str(i), r.model, str(len(r.params)), f"{r.aicc:.1f}", f"{r.aicc - best:.1f}",
+            f"{w / total:.3f}", f"{r.bic:.1f}", f"{r.rms_log_residual:.3f}", "".join(codes) or "—",
         )
     return table
 
 
 def parameter_table(result) -> Table:
     """Parameters of one fit with SI units, 95 % intervals and their method."""
-    table = Table(title=f"{result.model}: {result.declaration.equation}")
-    for col in ("parameter", "value", "std. error", "95 % interval", "unit", "interval method"):
-        table.add_column(col)
+    methods = sorted({est.method for est in result.params.values()})
+    table = Table(
+        title=f"{result.model}: {result.declaration.equation}",
+        caption="95 % intervals by " + "; ".join(methods) + "; 'open' = not bounded by the data",
+    )
+    for col in ("parameter", "value", "std. error", "95 % interval", "unit", ""):
+        table.add_column(col, no_wrap=col != "95 % interval")
     for name, est in result.params.items():
         unit = result.declaration.parameter(name).unit
-        shown = interval(est.ci95) + ("" if est.resolved else "  (unresolved)")
-        table.add_row(name, number(est.value), number(est.stderr), shown, unit, est.method)
+        status = "" if est.resolved else "unresolved"
+        table.add_row(name, number(est.value), number(est.stderr), Text(interval(est.ci95)), unit, status)
     return table
 
 
@@ -95,7 +106,7 @@ def curve_block(curve, results, chosen) -> Group:
     parts = [head]
     if len(results) > 1:
         parts.append(ranking_table(results))
-    parts += [parameter_table(chosen), Text("Flags:", style="bold"), flag_lines(tuple(curve.flags) + tuple(chosen.flags))]
+    parts += [parameter_table(chosen), Text("Flags:", style="bold"), flag_lines(chosen.flags)]
     return Group(*parts)
 
 
@@ -108,5 +119,5 @@ def summary_table(groups) -> Table:
         best = results[0]
         gap = f"{results[1].aicc - best.aicc:.2f}" if len(results) > 1 else "—"
         params = ", ".join(f"{k}={number(v.value)}" for k, v in best.params.items())
-        table.add_row(curve.name, best.model, gap, params, str(len(best.flags) + len(curve.flags)))
+        table.add_row(curve.name, best.model, gap, params, str(len(best.flags)))
     return table
