@@ -45,8 +45,9 @@ Point;Shear rate [1/s];Shear stress [Pa];Viscosity [mPa·s]
 """
 
 
-def test_preamble_semicolon_decimal_comma_cp1252(tmp_path):
-    curve = read_flow_curve(write(tmp_path, "gel.csv", PREAMBLE_SEMICOLON, "cp1252"))
+@pytest.mark.parametrize("encoding", ["cp1252", "latin-1"])  # °, µ and · share their bytes in both
+def test_preamble_semicolon_decimal_comma_cp1252(tmp_path, encoding):
+    curve = read_flow_curve(write(tmp_path, "gel.csv", PREAMBLE_SEMICOLON, encoding))
     np.testing.assert_allclose(curve.shear_rate, [0.1, 1.0, 10.0, 100.0], rtol=1e-12)
     np.testing.assert_allclose(curve.viscosity, [5.2, 2.9, 1.45, 0.71], rtol=1e-12)  # mPa s / 1000
     np.testing.assert_allclose(curve.stress, [0.52, 2.9, 14.5, 71.0], rtol=1e-12)
@@ -384,3 +385,22 @@ def test_temperature_column_left_empty(tmp_path):
     text = "Shear rate [1/s];Viscosity [Pa s];Temperature [°C]\n1;3;\n10;2;\n100;1;\n"
     curve = read_flow_curve(write(tmp_path, "tnone.csv", text))
     assert curve.temperature is None and len(curve) == 3
+
+
+@pytest.mark.parametrize(
+    "line,kelvin,assumed",
+    [
+        ("Temperature: 37 °C", 310.15, False),
+        ("# temperature: 37 C; steady sweep, low to high rate", 310.15, False),
+        ("Temp = 298.15 K", 298.15, False),
+        ("Temperature;25,0 °C", 298.15, False),
+        ("Temperature: 20", 293.15, True),  # unitless below 150: °C (flagged)
+        ("Temperature: 300", 300.0, True),  # unitless above 150: K (flagged)
+        ("Temperature: room", None, False),
+    ],
+)
+def test_temperature_from_a_preamble_line(tmp_path, line, kelvin, assumed):
+    text = f"{line}\nShear rate [1/s];Viscosity [Pa s]\n1;3\n10;2\n100;1\n"
+    curve = read_flow_curve(write(tmp_path, "pre.csv", text))
+    assert curve.temperature == (pytest.approx(kelvin) if kelvin else None)  # SI Brochure 2019, sec. 2.3.1
+    assert ("assumed_unit" in codes(curve)) == assumed

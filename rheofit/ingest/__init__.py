@@ -152,30 +152,44 @@ def sorted_by_shear_rate(curve: FlowCurve) -> FlowCurve:
 
 def _block_drafts(lines, layout: Layout, block: Block, number: int, dialect: Dialect,
                   columns, units, details, shown) -> list[Draft]:
+    """Draft curves of one block, with the text around it as metadata."""
     cells = Cells(lines, block, dialect, shown)
     found = make_columns(block.header, block.units, block.width)
     roles = assign_roles(found, columns, shown)
-    file_lines = layout.blocks[0].preamble + layout.trailer
-    own_lines = block.preamble if number > 1 else []
-    all_lines = file_lines + own_lines
     own_fields = preamble.fields(block.preamble, dialect)
-    all_fields = {**preamble.fields(file_lines, dialect), **own_fields}
-    temperature, flags = preamble.temperature(own_fields)
-    if temperature is None and number > 1:
-        temperature, flags = preamble.temperature(all_fields)
-    used = {column.position for role, column in roles.items() if role not in ("index", "time")}
-    details = dict(
-        details,
-        header_line=None if block.header_line is None else block.header_line + 1,
-        units_line=None if block.units_line is None else block.units_line + 1,
-        columns={role: column.text or f"column {column.position + 1}" for role, column in roles.items()
-                 if column.position in used},
-        ignored_columns=[c.text or f"column {c.position + 1}" for c in found if c.position not in used],
-    )
-    metadata = {"lines": all_lines, **all_fields, "import": details}
+    metadata, temperature, flags = _block_text(layout, block, number, dialect, own_fields)
+    metadata["import"] = _import_details(details, block, roles, found)
     label = preamble.block_label(own_fields, block.preamble, number, dialect)
     context = Context(shown, len(layout.blocks), label, temperature, metadata, flags, units)
     return block_drafts(cells, roles, context)
+
+
+def _block_text(layout: Layout, block: Block, number: int, dialect: Dialect, own_fields: dict):
+    """(metadata, temperature [K] or None, flags) from the file's text and the block's own lines.
+
+    The lines before the first block (and after the last) belong to every
+    curve; a later block adds the lines just above its header.
+    """
+    file_lines = layout.blocks[0].preamble + layout.trailer
+    lines = file_lines + (block.preamble if number > 1 else [])
+    fields = {**preamble.fields(file_lines, dialect), **own_fields}
+    temperature, flags = preamble.temperature(own_fields)
+    if temperature is None:
+        temperature, flags = preamble.temperature(fields)
+    return {"lines": lines, **fields}, temperature, flags
+
+
+def _import_details(details: dict, block: Block, roles: dict, found: list) -> dict:
+    """How the block was read: encoding, delimiter, header line, columns used and ignored."""
+    used = {column.position: role for role, column in roles.items() if role not in ("index", "time")}
+    shown = {c.position: c.text or f"column {c.position + 1}" for c in found}
+    return dict(
+        details,
+        header_line=None if block.header_line is None else block.header_line + 1,
+        units_line=None if block.units_line is None else block.units_line + 1,
+        columns={role: shown[position] for position, role in used.items()},
+        ignored_columns=[shown[c.position] for c in found if c.position not in used],
+    )
 
 
 def _finish(drafts: list[Draft], base: str, shown: str) -> list[FlowCurve]:

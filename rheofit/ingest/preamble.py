@@ -5,10 +5,9 @@ from __future__ import annotations
 import re
 
 from rheofit.curve import Flag
-from rheofit.errors import UnitError
 from rheofit.ingest.columns import name_role
 from rheofit.ingest.dialect import Dialect, clean, is_number
-from rheofit.units import to_si
+from rheofit.units import is_unit_of, to_si
 
 #: metadata keys rheofit itself uses; a file's own key of that name gets " (file)" appended
 RESERVED = ("lines", "import")
@@ -64,24 +63,26 @@ def block_label(own_fields: dict[str, str], own_lines: list[str], number: int, d
 
 
 def temperature(fields_: dict[str, str]) -> tuple[float | None, list[Flag]]:
-    """The temperature [K] a block's text gives (``Temperature: 25 °C``), or None."""
+    """The temperature [K] a block's text gives (``Temperature: 25 °C``), or None.
+
+    Text after the unit is ignored (``37 C; steady sweep``); a number without
+    a unit is read in °C below 150 and in K above (flagged).
+    """
     for key, value in fields_.items():
         if name_role(key)[0] != "temperature":
             continue
         match = _QUANTITY.match(value)
         if not match:
             continue
-        number, unit = float(match.group(1).replace(",", ".")), match.group(2)
-        flags = []
-        if not unit:
+        number, rest = float(match.group(1).replace(",", ".")), match.group(2)
+        for unit in dict.fromkeys((rest, re.split(r"[;,(]", rest)[0].strip(), (rest.split() or [""])[0])):
+            if unit and is_unit_of(unit, "temperature"):
+                return float(to_si(number, unit, "temperature")), []
+        if not rest:
             unit = "degC" if number < CELSIUS_BELOW else "K"
-            flags.append(Flag(
+            return float(to_si(number, unit, "temperature")), [Flag(
                 "assumed_unit",
                 f"'{key}: {value}' gives no unit, so {'°C' if unit == 'degC' else 'K'} was assumed.",
                 {"role": "temperature", "unit": unit},
-            ))
-        try:
-            return float(to_si(number, unit, "temperature")), flags
-        except UnitError:
-            continue
+            )]
     return None, []
