@@ -169,12 +169,12 @@ def test_descending_sweep_keeps_its_order(tmp_path):
 
 
 def test_missing_values_are_dropped_and_counted(tmp_path):
-    text = "Shear rate [1/s];Viscosity [Pa s]\n1;2\n2;\n5;NaN\n10;1\n20;--\n50;n/a\n100;0.5\n"
+    text = "Shear rate [1/s];Viscosity [Pa s]\n1;2\n2;\n5;NaN\n10;1\n20;--\n50;n/a\n70;—\n100;0.5\n"
     curve = read_flow_curve(write(tmp_path, "gaps.csv", text))
     np.testing.assert_allclose(curve.shear_rate, [1, 10, 100])
     (flag,) = [f for f in curve.flags if f.code == "missing_values"]
-    assert flag.data == {"count": 4, "lines": [3, 4, 6, 7]}
-    assert "4 rows" in flag.message
+    assert flag.data == {"count": 5, "lines": [3, 4, 6, 7, 8]}
+    assert "5 rows" in flag.message
 
 
 def test_zero_and_negative_shear_rates_are_dropped(tmp_path):

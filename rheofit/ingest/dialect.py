@@ -14,7 +14,8 @@ from collections import Counter
 from dataclasses import dataclass
 
 #: cell texts that mean "no value" (compared lower-case, stripped)
-MISSING = frozenset({"", "nan", "-nan", "--", "---", "-", "n/a", "na", "#n/a", "null", "none", "?", "*", "inf", "-inf", "+inf"})
+MISSING = frozenset({"", "nan", "-nan", "--", "---", "-", "—", "–", "n/a", "na", "#n/a", "null", "none", "?", "*",
+                     "inf", "-inf", "+inf"})
 
 _NUMBER = re.compile(r"^[-+]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][-+]?\d+)?$")
 _COMMA_DECIMAL = re.compile(r"^[-+]?\d*,\d+(?:[eE][-+]?\d+)?$")
