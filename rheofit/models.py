@@ -307,7 +307,7 @@ def newtonian_tube_flow_rate(tau_w, radius, mu):
 
 
 def newtonian_slit_flow_rate(tau_w, half_gap, width, mu):
-    """Q = 2 W h^2 tau_w / (3 mu): plane Poiseuille flow (Bird, Stewart & Lightfoot 2002, sect. 2.2)."""
+    """Q = 2 W h^2 tau_w / (3 mu): plane Poiseuille flow (Bird, Stewart & Lightfoot 2002, ch. 2)."""
     return 2.0 * width * half_gap**2 * np.asarray(tau_w, dtype=float) / (3.0 * mu)
 
 

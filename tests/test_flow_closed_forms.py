@@ -35,7 +35,7 @@ def hagen_poiseuille_tube(dp, mu, R, L):
 
 
 def plane_poiseuille_slit(dp, mu, W, H, L):
-    # Source: Bird, Stewart & Lightfoot (2002), sect. 2.2 (flow between plates): Q = W H^3 dP / (12 mu L)
+    # Source: Bird, Stewart & Lightfoot (2002), ch. 2 (flow between parallel plates): Q = W H^3 dP / (12 mu L)
     return W * H**3 * dp / (12.0 * mu * L)
 
 

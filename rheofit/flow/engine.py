@@ -82,7 +82,7 @@ _TAIL = float(np.exp(-LOG_SPAN))
 
 # --- the flow curve of one fluid and its inverse ------------------------------
 
-class _Rheology:
+class Rheology:
     """tau(s) of one fluid with its parameters bound, and its inverse s(tau)."""
 
     #: ln(shear rate) grid of the start-up table [ln(1/s)]
@@ -221,7 +221,7 @@ def _blocks(n: int):
         yield slice(start, min(start + _BLOCK, n))
 
 
-def flow_integral(rheology: _Rheology, wall_shear_rate, wall_shear_stress, power: int):
+def flow_integral(rheology: Rheology, wall_shear_rate, wall_shear_stress, power: int):
     """q_k = int_0^gd_w (1 - (tau(s)/tau_w)^k) ds [1/s], so that Q = flow_scale * q_k.
 
     Vectorised over points; composite Gauss-Legendre in v = ln(s/gd_w).
@@ -236,7 +236,7 @@ def flow_integral(rheology: _Rheology, wall_shear_rate, wall_shear_stress, power
     return out
 
 
-def stress_deficit_integral(rheology: _Rheology, lower, wall_shear_rate, wall_shear_stress):
+def stress_deficit_integral(rheology: Rheology, lower, wall_shear_rate, wall_shear_stress):
     """J = int_{s_r}^{gd_w} (tau_w - tau(s)) ds [Pa/s] for lower limits s_r >= 0.
 
     The panels of the rule are scaled onto [ln(s_r/gd_w), 0] (never wider
@@ -338,7 +338,7 @@ def solve_pressure_drop(fluid, geometry, pressure_drop, method: str = "auto") ->
     ``flowing`` False (a result, not an error).
     """
     fluid, geometry, method = as_fluid(fluid), check_geometry(geometry), _method(method)
-    rheology = _Rheology(fluid)
+    rheology = Rheology(fluid)
     dp = _operating_values(pressure_drop, "pressure drop")
     tau_w = geometry.wall_shear_stress(dp)
     g = rheology.shear_rate(tau_w)
@@ -361,7 +361,7 @@ def solve_flow_rate(fluid, geometry, flow_rate, method: str = "auto") -> FlowSta
     Q = 0 gives dP = 0 (fluid at rest).
     """
     fluid, geometry, method = as_fluid(fluid), check_geometry(geometry), _method(method)
-    rheology = _Rheology(fluid)
+    rheology = Rheology(fluid)
     q = _operating_values(flow_rate, "flow rate")
     k = geometry.stress_power
     flowing = q > 0
@@ -416,7 +416,7 @@ def wall_shear_rate(fluid, wall_shear_stress):
     """Wall shear rate gd_w [1/s] with tau(gd_w) = tau_w [Pa]; 0 at or below a yield stress."""
     stress = np.asarray(wall_shear_stress, dtype=float)
     flat = _operating_values(stress, "wall shear stress")
-    return _shaped(_Rheology(as_fluid(fluid)).shear_rate(flat), stress)
+    return _shaped(Rheology(as_fluid(fluid)).shear_rate(flat), stress)
 
 
 def velocity_profile(fluid, geometry, wall_shear_stress, position):
@@ -436,13 +436,13 @@ def velocity_profile(fluid, geometry, wall_shear_stress, position):
             f"Profile positions must lie between 0 (centre line) and {half:.4g} m (the wall); "
             f"got values from {np.nanmin(r):.4g} to {np.nanmax(r):.4g} m."
         )
-    rheology = _Rheology(fluid)
+    rheology = Rheology(fluid)
     fraction = np.minimum(r.ravel() / half, 1.0)
     u = profile_at_fractions(rheology, geometry, np.array([tau_w]), fraction[None, :])
     return u.reshape(r.shape) if r.ndim else float(u[0, 0])
 
 
-def profile_at_fractions(rheology: _Rheology, geometry, wall_shear_stress, fraction):
+def profile_at_fractions(rheology: Rheology, geometry, wall_shear_stress, fraction):
     """Velocities u [m/s] at r/R = ``fraction`` (shape (M, P)) for M wall stresses [Pa]."""
     tau_w = np.asarray(wall_shear_stress, dtype=float)
     fraction = np.asarray(fraction, dtype=float)
@@ -454,7 +454,7 @@ def profile_at_fractions(rheology: _Rheology, geometry, wall_shear_stress, fract
     return u
 
 
-def profile_parts(rheology: _Rheology, half_size: float, wall_shear_stress, wall_shear_rate, fraction):
+def profile_parts(rheology: Rheology, half_size: float, wall_shear_stress, wall_shear_rate, fraction):
     """(u [m/s], local shear rate [1/s]) at r/R = ``fraction`` (M, P) for M flowing points.
 
     u = (R/tau_w) [ int_{s_r}^{gd_w} (tau_w - tau(s)) ds + s_r (tau_w - tau_r) ], tau_r = tau_w r/R.

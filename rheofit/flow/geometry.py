@@ -4,7 +4,7 @@ Each geometry knows the few numbers the generic flow engine needs:
 
 * ``wall_shear_stress(dP)`` from a force balance on fully developed flow,
   tube tau_w = dP R / (2 L), slit tau_w = dP h / L with h = H/2
-  [Pa] (Bird, Stewart & Lightfoot 2002, sects. 2.3 and 2.2);
+  [Pa] (Bird, Stewart & Lightfoot 2002, ch. 2);
 * ``apparent_wall_shear_rate(Q)``, the wall shear rate a Newtonian fluid
   would have at the same flow rate: tube 4 Q / (pi R^3) (= 8 V / D), slit
   6 Q / (W H^2) (= 6 V / H) [1/s];
@@ -49,8 +49,8 @@ def _length(owner: str, name: str, value, example: str) -> float:
     return float(number)
 
 
-def _operating(value, name: str):
-    """Operating-point values as a float array (no checks here)."""
+def _operating(value):
+    """Operating-point values as a float array (checked by the engine, not here)."""
     return np.asarray(value, dtype=float)
 
 
@@ -107,15 +107,15 @@ class Tube:
 
     def wall_shear_stress(self, pressure_drop):
         """tau_w = dP R / (2 L) [Pa] (force balance; Bird, Stewart & Lightfoot 2002, sect. 2.3)."""
-        return _operating(pressure_drop, "pressure drop") * self.radius / (2.0 * self.length)
+        return _operating(pressure_drop) * self.radius / (2.0 * self.length)
 
     def pressure_drop(self, wall_shear_stress):
         """dP = 2 L tau_w / R [Pa], the inverse of :meth:`wall_shear_stress`."""
-        return _operating(wall_shear_stress, "wall shear stress") * 2.0 * self.length / self.radius
+        return _operating(wall_shear_stress) * 2.0 * self.length / self.radius
 
     def apparent_wall_shear_rate(self, flow_rate):
         """Newtonian wall shear rate 4 Q / (pi R^3) = 8 V / D [1/s] (Rabinowitsch 1929)."""
-        return 4.0 * _operating(flow_rate, "flow rate") / (math.pi * self.radius**3)
+        return 4.0 * _operating(flow_rate) / (math.pi * self.radius**3)
 
     def closed_form_flow_rate(self, function, wall_shear_stress, params):
         """Call a model's ``tube_flow_rate(tau_w, radius, **params)`` hook [m^3/s]."""
@@ -196,16 +196,16 @@ class Slit:
         return self.width * self.half_gap**2
 
     def wall_shear_stress(self, pressure_drop):
-        """tau_w = dP h / L [Pa] (force balance on a slab; Bird, Stewart & Lightfoot 2002, sect. 2.2)."""
-        return _operating(pressure_drop, "pressure drop") * self.half_gap / self.length
+        """tau_w = dP h / L [Pa] (force balance on a slab; Bird, Stewart & Lightfoot 2002, ch. 2)."""
+        return _operating(pressure_drop) * self.half_gap / self.length
 
     def pressure_drop(self, wall_shear_stress):
         """dP = L tau_w / h [Pa], the inverse of :meth:`wall_shear_stress`."""
-        return _operating(wall_shear_stress, "wall shear stress") * self.length / self.half_gap
+        return _operating(wall_shear_stress) * self.length / self.half_gap
 
     def apparent_wall_shear_rate(self, flow_rate):
         """Newtonian wall shear rate 6 Q / (W H^2) = 6 V / H [1/s]."""
-        return 6.0 * _operating(flow_rate, "flow rate") / (self.width * self.gap**2)
+        return 6.0 * _operating(flow_rate) / (self.width * self.gap**2)
 
     def closed_form_flow_rate(self, function, wall_shear_stress, params):
         """Call a model's ``slit_flow_rate(tau_w, half_gap, width, **params)`` hook [m^3/s]."""
@@ -215,7 +215,7 @@ class Slit:
         """Q(rectangular duct) / Q(parallel plates) for a Newtonian fluid [-].
 
         1 - (192 H / (pi^5 W)) * sum_{k odd} tanh(k pi W / (2 H)) / k^5
-        (Boussinesq 1868; the series as given by Shah & London 1978, ch. 7).
+        (Boussinesq 1868; the series as given by Shah & London 1978).
         """
         k = np.arange(1, 2 * terms, 2, dtype=float)
         series = np.sum(np.tanh(k * math.pi * self.aspect_ratio / 2.0) / k**5)

@@ -83,18 +83,20 @@ _THRESHOLDS = {
 }
 
 
+_CRITERION_TEXT = {
+    "tube": "{source}: stability parameter Z_max < 808",
+    "slit": "{source}: stability parameter on the slit profile, threshold set to Re = 2100 on the "
+            "hydraulic diameter for a Newtonian fluid (approximation)",
+}
+
+
 def criterion(fluid, geometry) -> str:
     """Name of the laminar criterion used for this fluid and geometry."""
     source = (
         "Hanks (1963) for yield-stress fluids" if fluid.yield_stress > 0
         else "Ryan & Johnson (1959)"
     )
-    if geometry.kind == "tube":
-        return f"{source}: stability parameter Z_max < 808"
-    return (
-        f"{source}: stability parameter on the slit profile, threshold set to Re = 2100 on the "
-        "hydraulic diameter for a Newtonian fluid (approximation)"
-    )
+    return _CRITERION_TEXT[geometry.kind].format(source=source)
 
 
 def _max_product(rheology, half_size, tau_w, g, plug):
@@ -141,7 +143,7 @@ def critical_reynolds(fluid, geometry, wall_shear_stress, wall_shear_rate, flow_
     profile of each point.  Beyond 48 points, Z_max/Re is interpolated
     (cubic spline of ln(Z_max/Re) over ln gd_w) from 48 exact evaluations over the range.
     """
-    rheology = engine._Rheology(fluid)
+    rheology = engine.Rheology(fluid)
     tau_w = np.asarray(wall_shear_stress, float)
     g = np.asarray(wall_shear_rate, float)
     q = np.asarray(flow_rate, float)
