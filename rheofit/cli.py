@@ -116,16 +116,17 @@ def main() -> None:  # pragma: no cover - console entry
     app()
 
 
-def load_source(source: Path, model: Optional[str]):
+def load_source(source: Path, model: Optional[str], curve: Optional[str] = None):
     """A FitResult from a saved fit (JSON) or from fitting a data file on the spot."""
     from rheofit.saved import is_saved_fit, load_fit
 
     if is_saved_fit(source):
-        return load_fit(source, model=model)
+        return load_fit(source, model=model, curve=int(curve) - 1 if curve and curve.isdigit() else 0)
     from rheofit.fitting import fit, fit_all
     from rheofit.ingest import read_flow_curve
 
-    curve = read_flow_curve(source)
+    pick = int(curve) if curve and curve.isdigit() else curve
+    curve = read_flow_curve(source, curve=pick)
     return fit(curve, model) if model else fit_all(curve)[0]
 
 
@@ -168,6 +169,7 @@ def flow_command(
     flow_rate: Optional[str] = typer.Option(None, "--flow-rate", "-q", help="Volumetric flow rate, e.g. '10 uL/min' or '1.2 mL/h'."),
     pressure_drop: Optional[str] = typer.Option(None, "--pressure-drop", "-p", help="Pressure drop over the length, e.g. '25 kPa'."),
     model: Optional[str] = typer.Option(None, "--model", "-m", help="Model to use (default: the best by AICc)."),
+    curve: Optional[str] = typer.Option(None, "--curve", help="Which curve of a file holding several (number from 1, or label such as '37 °C')."),
     density: Optional[str] = typer.Option(None, "--density", help="Fluid density, e.g. '1.05 g/mL' (for the Reynolds number; default 1000 kg/m^3)."),
     newtonian_viscosity: Optional[str] = typer.Option(None, "--newtonian-viscosity", help="Reference viscosity for the Newtonian comparison, e.g. '50 mPa s' (default: the model's viscosity at the apparent wall shear rate)."),
     as_json: bool = typer.Option(False, "--json", help="Print the prediction as JSON (SI units)."),
@@ -182,7 +184,7 @@ def flow_command(
         model = get_model(model).name
     geometry = make_geometry(diameter, gap, width, length)
     point = operating_point(flow_rate, pressure_drop)
-    result = load_source(source, model)
+    result = load_source(source, model, curve)
     reference = None if newtonian_viscosity is None else parse_quantity(newtonian_viscosity, "viscosity")
     if density is not None:
         point["density"] = parse_quantity(density, "density")

@@ -121,3 +121,75 @@ def summary_table(groups) -> Table:
         params = ", ".join(f"{k}={number(v.value)}" for k, v in best.params.items())
         table.add_row(curve.name, best.model, gap, params, str(len(best.flags)))
     return table
+
+
+# --- flow predictions -------------------------------------------------------
+
+#: display units chosen by magnitude: (SI threshold, factor, label)
+_DISPLAY = {
+    "pressure": [(1e6, 1e-6, "MPa"), (1e3, 1e-3, "kPa"), (0.0, 1.0, "Pa")],
+    "flow_rate": [(1e-6 / 60, 60e6, "mL/min"), (0.0, 60e9, "µL/min")],
+    "velocity": [(1.0, 1.0, "m/s"), (0.0, 1e3, "mm/s")],
+}
+
+
+def shown(value, kind: str) -> str:
+    """An SI value in the unit a practitioner reads most easily."""
+    if value is None or not math.isfinite(float(value)):
+        return "—"
+    for threshold, factor, label in _DISPLAY[kind]:
+        if abs(value) >= threshold:
+            return f"{value * factor:.4g} {label}"
+    return f"{value:.4g}"
+
+
+def _prediction_rows(p):
+    rows = [
+        ("pressure drop", shown(p.pressure_drop, "pressure")),
+        ("flow rate", shown(p.flow_rate, "flow_rate")),
+        ("mean velocity", shown(p.mean_velocity, "velocity")),
+        ("max velocity (centre line)", shown(p.max_velocity, "velocity")),
+        ("wall shear stress", f"{number(p.wall_shear_stress)} Pa"),
+        ("wall shear rate", f"{number(p.wall_shear_rate)} 1/s"),
+        ("apparent (Newtonian) wall shear rate", f"{number(p.apparent_wall_shear_rate)} 1/s"),
+    ]
+    if p.plug_fraction:
+        rows.append(("plug size / channel half-size", f"{p.plug_fraction:.3f}"))
+    regime = "laminar" if p.laminar else "NOT laminar"
+    rows.append(("generalised Reynolds number", f"{number(p.reynolds)} ({regime}; critical {number(p.critical_reynolds)})"))
+    for low_high, name, kind in (("pressure_drop_ci95", "pressure drop 95 % interval", "pressure"),
+                                 ("flow_rate_ci95", "flow rate 95 % interval", "flow_rate")):
+        ci = getattr(p, low_high, None)
+        if ci is not None and ci[0] is not None:
+            rows.append((name, f"{shown(ci[0], kind)} to {shown(ci[1], kind)}"))
+    return rows
+
+
+def prediction_block(result, geometry, p) -> Group:
+    """Everything `rheofit flow` shows for one operating point."""
+    from rich.panel import Panel
+
+    from rheofit.flow.predict import SAFETY_CAUTION
+
+    label = f" '{p.fluid.name}'" if p.fluid.name else ""
+    head = Text(f"\n{p.fluid.model}{label} in a {geometry.describe()}", style="bold")
+    table = Table(show_header=False, box=None, padding=(0, 2))
+    table.add_column(style="cyan")
+    table.add_column()
+    for name, value in _prediction_rows(p):
+        table.add_row(name, Text(value))
+    compare = Text("\nNewtonian comparison: ", style="bold")
+    compare.append(
+        f"with {number(p.newtonian_viscosity)} Pa·s ({p.newtonian_reference}) a Newtonian estimate "
+        f"gives {shown(p.newtonian_pressure_drop, 'pressure')}; the model needs "
+        f"{number(p.newtonian_ratio, 3)}× that."
+    )
+    if p.zero_shear_viscosity is not None:
+        compare.append(
+            f"\nWith the zero-shear viscosity {number(p.zero_shear_viscosity)} Pa·s it would give "
+            f"{shown(p.zero_shear_pressure_drop, 'pressure')} (ratio {number(p.zero_shear_ratio, 3)})."
+        )
+    density = " (default; pass --density)" if p.density_is_default else ""
+    notes = Text(f"\nLaminar criterion: {p.laminar_criterion}. Density {number(p.density)} kg/m³{density}.", style="dim")
+    return Group(head, table, compare, notes, Text("\nFlags:", style="bold"), flag_lines(p.flags),
+                 Panel(Text(SAFETY_CAUTION), border_style="yellow"))
