@@ -1,0 +1,1 @@
+"""Invented sample sweeps bundled with rheofit (see README.md in this folder)."""
