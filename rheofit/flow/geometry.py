@@ -38,6 +38,13 @@ from rheofit.units import parse_quantity
 NARROW_SLIT_RATIO = 10.0
 
 
+def _mm(metres: float) -> str:
+    """A length for people: micrometres below 1 mm, millimetres below 1 m."""
+    if metres < 1e-3:
+        return f"{metres * 1e6:.4g} µm"
+    return f"{metres * 1e3:.4g} mm" if metres < 1.0 else f"{metres:.4g} m"
+
+
 def _length(owner: str, name: str, value, example: str) -> float:
     """Parse one length and check it is positive and finite [m]."""
     number = parse_quantity(value, "length")
@@ -127,7 +134,7 @@ class Tube:
         return ()
 
     def describe(self) -> str:
-        return f"tube, D = {self.diameter:.4g} m, L = {self.length:.4g} m"
+        return f"tube, D = {_mm(self.diameter)}, L = {_mm(self.length)}"
 
     def to_dict(self) -> dict:
         return {"kind": self.kind, "diameter": self.diameter, "length": self.length}
@@ -240,7 +247,7 @@ class Slit:
 
     def describe(self) -> str:
         return (
-            f"slit, H = {self.gap:.4g} m, W = {self.width:.4g} m, L = {self.length:.4g} m"
+            f"slit, H = {_mm(self.gap)}, W = {_mm(self.width)}, L = {_mm(self.length)}"
         )
 
     def to_dict(self) -> dict:

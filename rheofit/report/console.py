@@ -178,6 +178,14 @@ def prediction_block(result, geometry, p) -> Group:
     table.add_column()
     for name, value in _prediction_rows(p):
         table.add_row(name, Text(value))
+    if not bool(p.flowing):
+        compare = Text("\nNo flow: ", style="bold red")
+        compare.append(
+            f"the wall shear stress stays below the yield stress; the sample starts to flow only "
+            f"above {shown(p.threshold_pressure_drop, 'pressure')} over this length."
+        )
+        return Group(head, table, compare, Text("\nFlags:", style="bold"), flag_lines(p.flags),
+                     Panel(Text(SAFETY_CAUTION), border_style="yellow"))
     compare = Text("\nNewtonian comparison: ", style="bold")
     compare.append(
         f"with {number(p.newtonian_viscosity)} Pa·s ({p.newtonian_reference}) a Newtonian estimate "
