@@ -15,7 +15,9 @@ from dataclasses import dataclass
 
 #: cell texts that mean "no value" (compared lower-case, stripped)
 MISSING = frozenset({"", "nan", "-nan", "--", "---", "-", "—", "–", "n/a", "na", "#n/a", "null", "none", "?", "*",
-                     "inf", "-inf", "+inf"})
+                     "inf", "-inf", "+inf",
+                     # spreadsheet error cells: a formula with no value, not a measurement
+                     "#div/0!", "#value!", "#ref!", "#num!", "#name?", "#null!"})
 
 _NUMBER = re.compile(r"^[-+]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][-+]?\d+)?$")
 _COMMA_DECIMAL = re.compile(r"^[-+]?\d*,\d+(?:[eE][-+]?\d+)?$")

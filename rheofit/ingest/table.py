@@ -48,7 +48,7 @@ class Cells:
     def _slow_numbers(self, cells: list[str], column: Column) -> np.ndarray:
         values = np.empty(len(cells))
         for k, cell in enumerate(cells):
-            cell = clean(cell)
+            cell = clean(cell).replace("\u2212", "-")  # typographic minus sign
             if is_missing(cell):
                 values[k] = np.nan
                 continue
