@@ -12,7 +12,8 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+import textwrap
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -63,6 +64,14 @@ class FlowPrediction:
     ``position`` [m from the centre line] and ``velocity`` [m/s]: of the
     single point, or of the FIRST point for array input; see
     :meth:`profile_at` for others), flags (tuple of Flag).
+
+    Uncertainty (a prediction from a fit result; None for a fluid with given
+    parameters): ``pressure_drop_ci95`` when the flow rate is given, or
+    ``flow_rate_ci95`` when the pressure drop is, and
+    ``wall_shear_stress_ci95`` and ``wall_shear_rate_ci95``: each a 95 %
+    interval (low, high), floats or arrays shaped like the input;
+    ``uncertainty_method`` (text) and ``uncertainty_samples`` (Monte Carlo
+    draws), see :mod:`rheofit.uncertainty`.
     """
 
     geometry: object
@@ -94,6 +103,16 @@ class FlowPrediction:
     tolerance: float
     profile: object
     flags: tuple[Flag, ...]
+    pressure_drop_ci95: tuple | None = None
+    flow_rate_ci95: tuple | None = None
+    wall_shear_stress_ci95: tuple | None = None
+    wall_shear_rate_ci95: tuple | None = None
+    uncertainty_method: str | None = None
+    uncertainty_samples: int | None = None
+
+    #: the interval fields, in the order shown
+    _INTERVALS = ("pressure_drop_ci95", "flow_rate_ci95", "wall_shear_stress_ci95",
+                  "wall_shear_rate_ci95")
 
     _ARRAYS = (
         "pressure_drop", "flow_rate", "mean_velocity", "max_velocity", "wall_shear_stress",
@@ -124,6 +143,11 @@ class FlowPrediction:
         for name in ("threshold_pressure_drop", "laminar_criterion", "newtonian_reference",
                      "zero_shear_viscosity", "density", "density_is_default", "tolerance"):
             out[name] = _plain(getattr(self, name))
+        for name in self._INTERVALS:
+            value = getattr(self, name)
+            out[name] = None if value is None else [_plain(value[0]), _plain(value[1])]
+        out["uncertainty_method"] = self.uncertainty_method
+        out["uncertainty_samples"] = self.uncertainty_samples
         out["profile"] = {
             "position": _plain(self.profile["position"].to_numpy()),
             "velocity": _plain(self.profile["velocity"].to_numpy()),
@@ -146,6 +170,9 @@ class FlowPrediction:
             lines.append(f"  zero-shear viscosity: {self.zero_shear_viscosity:.4g} Pa*s")
         default = " (default, not given)" if self.density_is_default else ""
         lines.append(f"  density: {self.density:.4g} kg/m^3{default}")
+        if self.uncertainty_method:
+            lines += textwrap.wrap(f"95 % intervals: {self.uncertainty_method}.", width=96,
+                                   initial_indent="  ", subsequent_indent="    ")
         if self.flags:
             lines.append("Flags:")
             lines += [f"  - [{flag.code}] {flag.message}" for flag in self.flags]
@@ -187,6 +214,12 @@ def _scalar_lines(p: FlowPrediction) -> list[str]:
                  ("pressure drop / zero-shear", p.zero_shear_ratio, "-")]
     lines = [f"  {name:<27}{value:.4g} {unit}" for name, value, unit in rows]
     lines.append(f"  {'laminar':<27}{'yes' if p.laminar else 'no'}")
+    for name, unit in (("pressure_drop", "Pa"), ("flow_rate", "m^3/s"), ("wall_shear_stress", "Pa"),
+                       ("wall_shear_rate", "1/s")):
+        ci = getattr(p, name + "_ci95")
+        if ci is not None:
+            label = name.replace("_", " ") + ", 95 %"
+            lines.append(f"  {label:<27}{ci[0]:.4g} to {ci[1]:.4g} {unit}")
     return lines
 
 
@@ -195,6 +228,9 @@ def _table_lines(p: FlowPrediction, shown: int = 12) -> list[str]:
                ("tau_w [Pa]", p.wall_shear_stress), ("gd_w [1/s]", p.wall_shear_rate),
                ("V [m/s]", p.mean_velocity), ("Re", p.reynolds),
                ("dP/dP_Newt", p.newtonian_ratio)]
+    for short, ci in (("dP", p.pressure_drop_ci95), ("Q", p.flow_rate_ci95)):
+        if ci is not None:
+            columns[2:2] = [(f"{short} 2.5%", ci[0]), (f"{short} 97.5%", ci[1])]
     head = "  " + "".join(f"{name:>12}" for name, _ in columns) + f"{'laminar':>9}"
     lines = [head]
     flat = [np.ravel(values) for _, values in columns]
@@ -339,7 +375,8 @@ def _density_flag(is_default: bool):
 
 def predict(fluid_or_fit, geometry, flow_rate=None, pressure_drop=None, density=None,
             newtonian_viscosity=None, *, tolerance: float = DEFAULT_TOLERANCE,
-            profile_points: int = 101, method: str = "auto") -> FlowPrediction:
+            profile_points: int = 101, method: str = "auto", uncertainty: bool = True,
+            samples: int = 400, seed: int | None = 0) -> FlowPrediction:
     """Predict laminar flow of a fluid (or fit result) in a Tube or Slit.
 
     Give exactly one of ``flow_rate`` [m^3/s] or ``pressure_drop`` [Pa]
@@ -361,11 +398,21 @@ def predict(fluid_or_fit, geometry, flow_rate=None, pressure_drop=None, density=
         Points of the velocity profile (centre line to wall).
     method : "auto" or "generic"
         "auto" uses a model's closed-form flow rate when it has one.
+    uncertainty : bool
+        For a fit result, carry the fit's parameter uncertainty into 95 %
+        intervals of the pressure drop (or flow rate) and the wall shear
+        stress and rate (:mod:`rheofit.uncertainty`); ignored for a fluid
+        with given parameters, which has none.
+    samples : int
+        Monte Carlo draws of the parameters (at least 40).
+    seed : int or None
+        Seed of the draws; the fixed default makes the interval repeatable.
 
     Flags: ``extrapolation`` (wall shear rate outside the fluid's measured
     range, with the factor), ``no_flow``, ``not_laminar``,
-    ``newtonian_misleads``, ``density_default``, and the geometry's own
-    (``narrow_slit``).
+    ``newtonian_misleads``, ``density_default``, ``interval_unreliable``
+    (an interval end rests on a parameter the data do not bound), and the
+    geometry's own (``narrow_slit``).
     """
     fluid = as_fluid(fluid_or_fit)
     geometry = check_geometry(geometry)
@@ -381,8 +428,35 @@ def predict(fluid_or_fit, geometry, flow_rate=None, pressure_drop=None, density=
     else:
         given = _operating_input(pressure_drop, "pressure")
         state = engine.solve_pressure_drop(fluid, geometry, given, method)
-    return _assemble(fluid, geometry, state, given.shape, density, is_default,
-                     newtonian_viscosity, tolerance, profile_points)
+    intervals = _intervals(fluid_or_fit, geometry, state, flow_rate is not None, method,
+                           uncertainty, samples, seed)
+    prediction = _assemble(fluid, geometry, state, given.shape, density, is_default,
+                           newtonian_viscosity, tolerance, profile_points)
+    return prediction if intervals is None else _with_intervals(prediction, intervals, given.shape)
+
+
+def _intervals(source, geometry, state, flow_rate_given: bool, method, uncertainty, samples, seed):
+    """FlowIntervals of a fit result (None for a fluid with given parameters or when not asked)."""
+    if not isinstance(uncertainty, (bool, np.bool_)):
+        raise ParameterError(f"uncertainty = {uncertainty!r} must be True or False.")
+    if isinstance(seed, bool) or not (seed is None or isinstance(seed, (int, np.integer))):
+        raise ParameterError(f"seed = {seed!r} must be a whole number or None, e.g. 0.")
+    from rheofit import uncertainty as propagation  # loads scipy: only when asked
+
+    samples = propagation.check_samples(samples)
+    if not uncertainty or not propagation.is_fit(source):
+        return None
+    given = {"flow_rate": state.flow_rate} if flow_rate_given else {"pressure_drop": state.pressure_drop}
+    return propagation.flow_intervals(source, geometry, **given, samples=samples, seed=seed, method=method)
+
+
+def _with_intervals(prediction: FlowPrediction, intervals, shape) -> FlowPrediction:
+    def out(values):
+        return values.reshape(shape) if shape else values[0].item()
+
+    fields = {f"{name}_ci95": (out(low), out(high)) for name, (low, high) in intervals.intervals.items()}
+    return replace(prediction, **fields, uncertainty_method=intervals.method,
+                   uncertainty_samples=intervals.samples, flags=prediction.flags + intervals.flags)
 
 
 def _assemble(fluid, geometry, state, shape, density, is_default, newtonian_viscosity,

@@ -162,6 +162,14 @@ def _prediction_rows(p):
         ci = getattr(p, low_high, None)
         if ci is not None and ci[0] is not None:
             rows.append((name, f"{shown(ci[0], kind)} to {shown(ci[1], kind)}"))
+    for low_high, name, unit in (("wall_shear_stress_ci95", "wall shear stress 95 % interval", "Pa"),
+                                 ("wall_shear_rate_ci95", "wall shear rate 95 % interval", "1/s")):
+        ci = getattr(p, low_high, None)
+        if ci is not None and ci[0] is not None:
+            rows.append((name, f"{number(ci[0])} to {number(ci[1])} {unit}"))
+    if getattr(p, "uncertainty_samples", None):
+        rows.append(("intervals from", f"{p.uncertainty_samples} Monte Carlo draws of the fitted "
+                                       "parameters (method in --json)"))
     return rows
 
 
