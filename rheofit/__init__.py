@@ -35,6 +35,8 @@ _EXPORTS = {
     "predict": "rheofit.flow",
     "FlowPrediction": "rheofit.flow",
     "RheofitError": "rheofit.errors",
+    "compare": "rheofit.compare",
+    "Comparison": "rheofit.compare",
 }
 
 __all__ = sorted([*_EXPORTS, "Fluid", "fluid"]) + ["__version__"]
