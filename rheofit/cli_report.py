@@ -1,0 +1,104 @@
+"""The ``report`` and ``demo`` commands (registered on :data:`rheofit.cli.app`).
+
+Thin: parse the options, call :mod:`rheofit.report` and :mod:`rheofit.demo`,
+print.  Progress goes to stderr, results to stdout.  Heavy libraries load
+inside the commands so that ``rheofit --help`` stays fast.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Optional
+
+import typer
+
+from rheofit.cli import user_errors
+
+
+def _stdout():
+    from rich.console import Console
+
+    return Console()
+
+
+def _read_curves(files):
+    """Every curve of every file (a saved-fit JSON is refused: the report shows the data)."""
+    from rheofit.errors import InputFileError
+    from rheofit.ingest import read_flow_curves
+    from rheofit.saved import is_saved_fit
+
+    curves = []
+    for path in files:
+        if is_saved_fit(path):
+            raise InputFileError(
+                f"'{path}' is a saved fit; the report needs the measured sweep it was fitted from "
+                "(the CSV export), to show the data and the residuals."
+            )
+        curves += read_flow_curves(path)
+    return curves
+
+
+def _case(diameter, gap, width, length, flow_rate, pressure_drop):
+    """The operating case from the flow options, or None when none of them is given."""
+    from rheofit.cli import make_geometry, operating_point
+    from rheofit.report.analysis import OperatingCase
+    from rheofit.report.console import shown
+
+    if all(v is None for v in (diameter, gap, width, length, flow_rate, pressure_drop)):
+        return None
+    geometry = make_geometry(diameter, gap, width, length)
+    point = operating_point(flow_rate, pressure_drop)
+    kind, value = next(iter(point.items()))
+    label = f"{geometry.kind}, {shown(value, 'flow_rate' if kind == 'flow_rate' else 'pressure')}"
+    return OperatingCase(label, geometry, **point)
+
+
+@user_errors
+def report_command(
+    files: list[Path] = typer.Argument(..., help="CSV export(s) of shear-rate sweeps; several curves are compared as lots (the first is the reference)."),
+    out: Path = typer.Option(..., "--out", "-o", help="The HTML report to write, e.g. report.html."),
+    diameter: Optional[str] = typer.Option(None, "--diameter", "-d", help="Tube inner diameter, e.g. '0.8 mm'."),
+    gap: Optional[str] = typer.Option(None, "--gap", help="Slit gap (height), e.g. '200 um'."),
+    width: Optional[str] = typer.Option(None, "--width", help="Slit width, e.g. '8 mm'."),
+    length: Optional[str] = typer.Option(None, "--length", "-l", help="Channel length, e.g. '30 cm'."),
+    flow_rate: Optional[str] = typer.Option(None, "--flow-rate", "-q", help="Volumetric flow rate, e.g. '50 uL/min'."),
+    pressure_drop: Optional[str] = typer.Option(None, "--pressure-drop", "-p", help="Pressure drop over the length, e.g. '300 Pa'."),
+    model: Optional[str] = typer.Option(None, "--model", "-m", help="Model for the predictions and the comparison (default: each sample's best by AICc)."),
+    density: Optional[str] = typer.Option(None, "--density", help="Fluid density, e.g. '1.05 g/mL' (default 1000 kg/m^3)."),
+    figures: Optional[Path] = typer.Option(None, "--figures", help="Also write every figure as PNG and SVG into this folder."),
+    force: bool = typer.Option(False, "--force", help="Overwrite the report (and figure files) if they exist."),
+):
+    """Write one self-contained HTML report: fits, flags, flow prediction, lot comparison, figures."""
+    from rheofit.models import get_model
+    from rheofit.report.analysis import analyse
+    from rheofit.report.html import refuse_existing, write_report
+    from rheofit.report.progress import rich_steps
+    from rheofit.units import parse_quantity
+
+    if not force:
+        refuse_existing([out])
+    model = None if model is None else get_model(model).name
+    case = _case(diameter, gap, width, length, flow_rate, pressure_drop)
+    rho = None if density is None else parse_quantity(density, "density")
+    with rich_steps() as steps:
+        steps.begin("reading the sweeps", len(files))
+        curves = _read_curves(files)
+        steps.advance()
+        analysis = analyse(curves, model=model, cases=[case] if case else [], density=rho, steps=steps)
+        path = write_report(out, analysis, figures_dir=figures, force=force, steps=steps)
+    where = f"; figures in {figures}" if figures is not None else ""
+    _stdout().print(f"Report written to {path} ({len(analysis.samples)} sample(s){where}).", highlight=False)
+
+
+@user_errors
+def demo_command(
+    out: Path = typer.Option(Path("rheofit-demo"), "--out", "-o", help="Folder for the demo's report and saved fits."),
+    force: bool = typer.Option(False, "--force", help="Overwrite an earlier demo's files in that folder."),
+):
+    """Run the whole job on the bundled (invented) sample sweeps and write a report."""
+    from rheofit.demo import run_demo, summary
+    from rheofit.report.progress import rich_steps
+
+    with rich_steps() as steps:
+        result = run_demo(out, force=force, steps=steps)
+    _stdout().print(summary(result))

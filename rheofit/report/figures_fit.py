@@ -1,0 +1,179 @@
+"""Figures of a fit: the flow curve with its 95 % band, and the log-space residuals."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from rheofit.report.plots import (
+    EXTRAPOLATED, INK, RANGE_FILL, SHEAR_RATE_LABEL, VISCOSITY_LABEL, legend_below, log_axes,
+    new_figure, plain, series_style, styled,
+)
+from rheofit.uncertainty import viscosity_band
+
+#: how far past an outside operating point the chosen model is drawn [-]
+_MARGIN = 1.6
+
+
+def _ranked(fits) -> list:
+    return list(fits) if isinstance(fits, (list, tuple)) else [fits]
+
+
+def _operating(operating) -> list[tuple[str, object]]:
+    """[(label, FlowPrediction)] from predictions or (label, prediction) pairs."""
+    pairs = []
+    for i, item in enumerate(operating or ()):
+        label, prediction = item if isinstance(item, tuple) else (f"operating point {i + 1}", item)
+        pairs.append((label, prediction))
+    return pairs
+
+
+def measured_points(fit, curve=None) -> tuple[np.ndarray, np.ndarray]:
+    """Shear rate [1/s] and viscosity [Pa*s] of the data behind a fit.
+
+    From the curve when given; otherwise rebuilt from the fit's log residuals
+    r_i = ln tau_model - ln tau_i, so eta_i = eta_model(gd_i) exp(-r_i).
+    """
+    if curve is not None:
+        return np.asarray(curve.shear_rate, float), np.asarray(curve.viscosity, float)
+    rate = np.asarray(fit.shear_rate, float)
+    return rate, fit.viscosity(rate) * np.exp(-np.asarray(fit.residuals, float))
+
+
+def _wall_rates(pairs) -> list[float]:
+    rates = []
+    for _, p in pairs:
+        rates += [float(g) for g, f in zip(np.ravel(p.wall_shear_rate), np.ravel(p.flowing)) if f and g > 0]
+    return rates
+
+
+def _extent(low: float, high: float, rates: list[float]) -> tuple[float, float]:
+    """Shear-rate span to draw: the measured range, widened to reach outside operating points."""
+    if rates and min(rates) < low:
+        low = min(rates) / _MARGIN
+    if rates and max(rates) > high:
+        high = max(rates) * _MARGIN
+    return low, high
+
+
+def _draw_chosen(axes, fit, low, high, extent, style):
+    """The chosen model: solid over the data, dashed where extrapolated, with its band."""
+    inside = np.geomspace(low, high, 200)
+    axes.plot(inside, fit.viscosity(inside), color=style["color"], linewidth=2.2, zorder=4,
+              label=f"{fit.declaration.title} (chosen)")
+    grid = np.geomspace(*extent, 300)
+    for segment in (grid[grid <= low], grid[grid >= high]):
+        if segment.size > 1:
+            axes.plot(segment, fit.viscosity(segment), color=style["color"], linewidth=2.0,
+                      linestyle=EXTRAPOLATED, zorder=4, label="chosen model, extrapolated")
+    band = viscosity_band(fit, grid)
+    if band is not None:
+        axes.fill_between(grid, band[0], band[1], color=style["color"], alpha=0.18, linewidth=0,
+                          zorder=2, label="95 % confidence band (chosen)")
+
+
+def _draw_others(axes, others, best_aicc, low, high):
+    grid = np.geomspace(low, high, 200)
+    for i, fit in enumerate(others, start=1):
+        style = series_style(i)
+        delta = fit.aicc - best_aicc
+        axes.plot(grid, fit.viscosity(grid), color=style["color"], linestyle=style["linestyle"],
+                  linewidth=1.3, zorder=3, label=f"{fit.declaration.title}, ΔAICc {delta:.1f}")
+
+
+def _draw_operating(axes, fit, pairs):
+    for j, (label, p) in enumerate(pairs):
+        rates = [g for g, f in zip(np.ravel(p.wall_shear_rate), np.ravel(p.flowing)) if f and g > 0]
+        if not rates:
+            continue
+        marker = ("D", "v", "P", "X")[j % 4]
+        axes.plot(rates, fit.viscosity(np.asarray(rates)), linestyle="none", marker=marker,
+                  markersize=8, markerfacecolor="white", markeredgecolor=INK, markeredgewidth=1.4,
+                  zorder=6, label=f"{plain(label)}: wall {rates[0]:.3g} 1/s")
+
+
+@styled
+def flow_curve_figure(fits, *, curve=None, chosen=None, operating=(), top: int = 3):
+    """Viscosity against shear rate (log-log) of one sample.
+
+    Parameters
+    ----------
+    fits : FitResult or list of FitResult (best first, as from fit_all)
+    curve : FlowCurve, optional
+        The measured data; rebuilt from the fit's residuals when not given.
+    chosen : FitResult, optional
+        The model used downstream (default: the first of ``fits``); drawn
+        with its 95 % confidence band, solid over the measured shear-rate
+        range and dashed where it is extrapolated to reach an operating point.
+    operating : list of FlowPrediction or (label, FlowPrediction)
+        Operating points, marked at their wall shear rate on the chosen curve.
+    top : int
+        How many of the best models (by AICc) to draw.
+    """
+    ranked = _ranked(fits)
+    chosen = chosen or ranked[0]
+    others = [f for f in ranked[:top] if f is not chosen][: max(top - 1, 0)]
+    pairs = _operating(operating)
+    low, high = chosen.shear_rate_range
+    extent = _extent(low, high, _wall_rates(pairs))
+    figure = new_figure()
+    axes = figure.add_subplot()
+    axes.axvspan(low, high, color=RANGE_FILL, zorder=0, label="measured shear-rate range")
+    rate, eta = measured_points(chosen, curve)
+    axes.plot(rate, eta, linestyle="none", marker="o", markerfacecolor="white", markeredgecolor=INK,
+              markersize=5, zorder=5, label="measured")
+    best = min(f.aicc for f in ranked if math.isfinite(f.aicc)) if ranked else chosen.aicc
+    _draw_chosen(axes, chosen, low, high, extent, series_style(0))
+    _draw_others(axes, others, best, low, high)
+    _draw_operating(axes, chosen, pairs)
+    log_axes(axes)
+    axes.set_xlim(extent[0] / 1.25, extent[1] * 1.25)
+    axes.set_xlabel(SHEAR_RATE_LABEL)
+    axes.set_ylabel(VISCOSITY_LABEL)
+    axes.set_title(f"{plain(chosen.name or 'sample')}: flow curve")
+    legend_below(figure, axes)
+    return figure
+
+
+@styled
+def residuals_figure(fits, *, chosen=None, top: int = 3):
+    """Log-space residuals r = ln(tau_model / tau_measured) [-] against shear rate.
+
+    A good model scatters around zero without a run of signs; a right axis
+    reads the same residual as a relative misfit exp(r) - 1 [%].
+    """
+    ranked = _ranked(fits)
+    chosen = chosen or ranked[0]
+    shown = [chosen] + [f for f in ranked[:top] if f is not chosen][: max(top - 1, 0)]
+    figure = new_figure()
+    axes = figure.add_subplot()
+    axes.axhline(0.0, color=INK, linewidth=0.9, zorder=1)
+    largest = 0.0
+    for i, fit in enumerate(shown):
+        style = series_style(i)
+        pattern = " (residual pattern)" if fit.flags_with("residual_pattern") else ""
+        axes.plot(fit.shear_rate, fit.residuals, color=style["color"], linestyle=style["linestyle"],
+                  marker=style["marker"], markersize=4.5, linewidth=1.0 if i else 1.4,
+                  markerfacecolor="white" if i else style["color"], zorder=3 + (i == 0),
+                  label=f"{fit.declaration.title}{' (chosen)' if i == 0 else ''}, "
+                        f"rms {fit.rms_log_residual:.3f}{pattern}")
+        largest = max(largest, float(np.nanmax(np.abs(fit.residuals), initial=0.0)))
+    limit = 1.12 * max(largest, 0.02)
+    axes.set_ylim(-limit, limit)
+    log_axes(axes, y=False)
+    axes.set_xlabel(SHEAR_RATE_LABEL)
+    axes.set_ylabel(r"residual ln($\tau_{\mathrm{model}}/\tau_{\mathrm{measured}}$) [–]")
+    right = axes.secondary_yaxis("right", functions=(_percent, _from_percent))
+    right.set_ylabel("relative misfit [%]")
+    axes.set_title(f"{plain(chosen.name or 'sample')}: residuals in log space")
+    legend_below(figure, axes, columns=1)
+    return figure
+
+
+def _percent(r):
+    return 100.0 * np.expm1(r)
+
+
+def _from_percent(p):
+    return np.log1p(np.asarray(p, float) / 100.0)

@@ -1,0 +1,64 @@
+"""Progress of long jobs: silent by default, a rich bar on the command line.
+
+The report and the demo call ``steps.begin(description, total)`` and
+``steps.advance()``; the library stays silent (:class:`Steps`), the CLI
+passes :func:`rich_steps`, which draws on stderr so that stdout stays clean.
+"""
+
+from __future__ import annotations
+
+from contextlib import contextmanager
+
+
+class Steps:
+    """Progress hooks that do nothing (the default for library calls)."""
+
+    def begin(self, description: str, total: int) -> None:
+        """A new stage of ``total`` steps."""
+
+    def advance(self, description: str | None = None) -> None:
+        """One step done (optionally with a new description)."""
+
+    def note(self, description: str) -> None:
+        """A new description for the current step, without counting a step."""
+
+
+class RichSteps(Steps):
+    """Progress drawn by a :class:`rich.progress.Progress`."""
+
+    def __init__(self, progress):
+        self._progress = progress
+        self._task = None
+
+    def begin(self, description: str, total: int) -> None:
+        if self._task is not None:
+            self._progress.update(self._task, completed=self._progress.tasks[-1].total)
+        self._task = self._progress.add_task(description, total=max(int(total), 1))
+
+    def advance(self, description: str | None = None) -> None:
+        if self._task is None:
+            return
+        if description is not None:
+            self._progress.update(self._task, description=description)
+        self._progress.advance(self._task)
+
+    def note(self, description: str) -> None:
+        if self._task is not None:
+            self._progress.update(self._task, description=description)
+
+
+def quiet(steps: Steps | None) -> Steps:
+    """``steps`` or the silent default."""
+    return steps if steps is not None else Steps()
+
+
+@contextmanager
+def rich_steps(console=None):
+    """A :class:`RichSteps` on ``console`` (default: stderr) for the ``with`` block."""
+    from rich.console import Console
+    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
+
+    console = console or Console(stderr=True)
+    columns = (TextColumn("{task.description:<44}"), BarColumn(), MofNCompleteColumn(), TimeElapsedColumn())
+    with Progress(*columns, console=console, transient=False) as progress:
+        yield RichSteps(progress)
