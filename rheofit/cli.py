@@ -195,3 +195,16 @@ def flow_command(
     from rheofit.report.console import prediction_block
 
     _console().print(prediction_block(result, geometry, prediction))
+
+
+def _register_more_commands() -> None:
+    """Commands that live in their own modules (each imports only typer at the top)."""
+    from rheofit.cli_compare import compare_command
+    from rheofit.cli_report import demo_command, report_command
+
+    app.command("compare")(compare_command)
+    app.command("report")(report_command)
+    app.command("demo")(demo_command)
+
+
+_register_more_commands()

@@ -9,6 +9,12 @@ from pathlib import Path
 from rheofit.errors import OutputExistsError
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 def write_atomic(path, data: str | bytes, *, force: bool = False) -> Path:
     """Write ``data`` to ``path`` via a temporary file in the same folder and a rename.
 
@@ -28,6 +34,7 @@ def write_atomic(path, data: str | bytes, *, force: bool = False) -> Path:
             handle.write(data)
             handle.flush()
             os.fsync(handle.fileno())
+        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give the usual permissions
         os.replace(tmp, path)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)

@@ -23,3 +23,14 @@ def test_failed_write_leaves_no_temp_file(tmp_path):
     with pytest.raises(TypeError):
         write_atomic(target, 12345)  # not text or bytes
     assert list(tmp_path.iterdir()) == []
+
+
+def test_output_gets_ordinary_permissions(tmp_path):
+    import os
+
+    mask = os.umask(0o022)
+    try:
+        target = write_atomic(tmp_path / "r.html", "x")
+    finally:
+        os.umask(mask)
+    assert target.stat().st_mode & 0o777 == 0o644  # common practice, no source: rw-r--r--
