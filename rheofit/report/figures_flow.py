@@ -161,7 +161,7 @@ def _newtonian_lines(axes, prediction, q, q_factor, p_factor):
         style = series_style(i)
         dp = geometry.pressure_drop(eta * geometry.apparent_wall_shear_rate(q))
         axes.plot(q * q_factor, dp * p_factor, color=style["color"], linestyle=style["linestyle"],
-                  linewidth=1.5, zorder=3, label=text)
+                  linewidth=1.8, zorder=3, label=text)
 
 
 def _band(axes, fit, prediction, q, q_factor, p_factor):

@@ -107,6 +107,7 @@ td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
 table.kv th { font-weight: normal; color: var(--muted); background: none; white-space: nowrap; }
 caption { caption-side: bottom; text-align: left; color: var(--muted); font-size: .82rem; padding-top: .3rem; }
 .scroll { overflow-x: auto; }
+.nowrap { white-space: nowrap; }
 .figures { display: grid; grid-template-columns: repeat(auto-fill, minmax(440px, 1fr)); gap: 1.2rem; }
 figure { margin: .5rem 0; }
 figure svg { width: 100%; height: auto; display: block; }

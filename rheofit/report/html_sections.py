@@ -57,9 +57,10 @@ def summary_section(analysis) -> Raw:
     parts = [tag("h2", "Summary", id="summary"),
              table(["sample", "file", "points", "shear rate [1/s]", "chosen model", "rms(ln)", "flags"],
                    rows, caption="rms(ln): typical relative misfit of the chosen model (0.02 ≈ 2 %).")]
-    cases = [[s.name, c.case.label, c.case.geometry.describe(), _case_result(c.prediction),
-              f"{number(_first(c.prediction.wall_shear_stress))} Pa",
-              _ratio(c.prediction)] for s in analysis.samples for c in s.cases]
+    cases = [[s.name, tag("a", c.case.label, href=f"#sample-{i}-case-{j}"), c.case.geometry.describe(),
+              _case_result(c.prediction), f"{number(_first(c.prediction.wall_shear_stress))} Pa",
+              _ratio(c.prediction)]
+             for i, s in enumerate(analysis.samples) for j, c in enumerate(s.cases)]
     if cases:
         parts.append(table(["sample", "case", "geometry", "result", "wall shear stress",
                             "model / Newtonian Δp"], cases,
@@ -209,7 +210,7 @@ def prediction_rows(p, fit) -> list[list[str]]:
 def newtonian_text(p) -> str:
     """The Newtonian comparison in words."""
     if not bool(_first(p.flowing)):
-        return (f"No flow: the wall shear stress ({number(_first(p.wall_shear_stress))} Pa) does not "
+        return (f"The wall shear stress ({number(_first(p.wall_shear_stress))} Pa) does not "
                 f"exceed the yield stress, so the sample stays at rest. It starts to flow only above a "
                 f"pressure drop of {shown(p.threshold_pressure_drop, 'pressure')} over this length.")
     text = (f"A Newtonian estimate with η = {number(_first(p.newtonian_viscosity))} Pa·s "
@@ -231,7 +232,8 @@ def case_block(i: int, j: int, result, fit, figures) -> Raw:
         tag("h3", f"Flow: {case.label}", id=f"sample-{i}-case-{j}"),
         tag("p", f"{fit.declaration.title} model of {fit.name or 'the sample'} in a {case.describe()}."),
         table(["quantity", "value", "95 % interval"], prediction_rows(p, fit), caption=note),
-        tag("p", join(tag("strong", "Newtonian comparison. "), newtonian_text(p))),
+        tag("p", join(tag("strong", "Newtonian comparison. " if bool(_first(p.flowing)) else "No flow. "),
+                      newtonian_text(p))),
         tag("p", tag("strong", "Flags")), bullets([f.message for f in p.flags], empty="No flags."),
         _figures(figures),
     )
@@ -256,7 +258,7 @@ def _frame_cell(column: str, value) -> str:
         if column.startswith(prefix):
             return shown(value, kind)
     if column.endswith("_at") or column == "wall_shear_rate":
-        return f"{number(value, 3)} 1/s"
+        return f"{number(value)} 1/s"
     return percent(value) if "deviation" in column else number(value)
 
 
@@ -268,6 +270,10 @@ def _merged_cell(record, column) -> str:
     if f"{column}_at" in record:
         cell += f" at {_frame_cell(f'{column}_at', record[f'{column}_at'])}"
     return cell
+
+
+def _unit(unit: str) -> str:
+    return "" if unit in ("", "1", "-") else f" {unit}"
 
 
 def comparison_table(frame, units=None) -> Raw:
@@ -283,9 +289,10 @@ def comparison_table(frame, units=None) -> Raw:
     others = [c for c in columns if c not in inner and c not in units and c not in _HIDDEN]
     rows = []
     for record in frame.to_dict("records"):
-        lines = [f"{c} = {_merged_cell(record, c)} {units[c]}" for c in parameters]
+        lines = [f"{c} = {_merged_cell(record, c)}{_unit(units[c])}" for c in parameters]
         cells = [_merged_cell(record, c) for c in others]
-        rows.append(cells[:1] + [Raw("<br>".join(esc(line) for line in lines))] + cells[1:])
+        block = "<br>".join(f'<span class="nowrap">{esc(line)}</span>' for line in lines)
+        rows.append(cells[:1] + [Raw(block)] + cells[1:])
     headers = others[:1] + ["parameters [95 %]"] + [c.replace("_", " ") for c in others[1:]]
     return table(headers, rows, caption="Brackets: 95 % intervals ('—': open). Deviations are "
                                         "relative to the reference lot.")
@@ -358,6 +365,15 @@ METHOD = (
 )
 
 
+def _comparison_method(comparison) -> str:
+    choice = getattr(comparison, "model_choice", "")
+    model = f"one model for every lot ({comparison.model}{', ' + choice if choice else ''})"
+    return (f"Lot comparison: {model}; each lot is judged against the reference lot by the "
+            "operating point (when a geometry is given) and by the largest viscosity deviation over "
+            "the shear-rate range all lots share; the p-value is the extra-sum-of-squares F test of "
+            "one curve for all lots against one per lot (Motulsky & Christopoulos 2004).")
+
+
 def _distinct(values) -> list[str]:
     return list(dict.fromkeys(v for v in values if v))
 
@@ -379,8 +395,7 @@ def method_section(analysis) -> Raw:
     uncertainty = _distinct(getattr(p, "uncertainty_method", None) for p in predictions)
     if uncertainty:
         items.append(("95 % intervals of the predictions:", uncertainty))
-    compare_method = getattr(analysis.comparison, "method", None) if analysis.comparison is not None else None
-    if compare_method:
-        items.append(f"Lot comparison: {compare_method}.")
+    if analysis.comparison is not None:
+        items.append(_comparison_method(analysis.comparison))
     items.append("All computation in SI units; shown in the units people read (kPa, µL/min, mm/s).")
     return tag("section", join(tag("h2", "Method and assumptions", id="method"), bullets(items)))
