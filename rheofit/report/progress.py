@@ -29,11 +29,18 @@ class RichSteps(Steps):
     def __init__(self, progress):
         self._progress = progress
         self._task = None
+        self._stage = ""
 
     def begin(self, description: str, total: int) -> None:
-        if self._task is not None:
-            self._progress.update(self._task, completed=self._progress.tasks[-1].total)
+        self.finish()
+        self._stage = description
         self._task = self._progress.add_task(description, total=max(int(total), 1))
+
+    def finish(self) -> None:
+        """Mark the current stage complete, under its own name again."""
+        if self._task is not None:
+            total = self._progress.tasks[-1].total
+            self._progress.update(self._task, completed=total, description=self._stage)
 
     def advance(self, description: str | None = None) -> None:
         if self._task is None:
@@ -61,4 +68,6 @@ def rich_steps(console=None):
     console = console or Console(stderr=True)
     columns = (TextColumn("{task.description:<44}"), BarColumn(), MofNCompleteColumn(), TimeElapsedColumn())
     with Progress(*columns, console=console, transient=False) as progress:
-        yield RichSteps(progress)
+        steps = RichSteps(progress)
+        yield steps
+        steps.finish()
