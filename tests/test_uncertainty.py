@@ -35,7 +35,7 @@ def sweep(model, true, rate_range, points, noise, rng, name="synthetic"):
 
 # --- coverage ----------------------------------------------------------------------------------
 
-COVERAGE_REPLICATES = 200
+COVERAGE_REPLICATES = 150
 
 
 def test_pressure_drop_interval_covers_the_truth_about_95_percent_of_the_time(record_property):
