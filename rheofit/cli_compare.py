@@ -108,14 +108,50 @@ def _percent(value) -> str:
 
 
 def _short_interval(ci) -> str:
-    """'[low, high]' with 3 significant digits, 'open' for an open end."""
+    """'low–high' with 3 significant digits, 'open' for an open end."""
     from rheofit.report.console import number
 
-    return "[" + ", ".join("open" if v is None else number(v, 3) for v in ci) + "]"
+    return "–".join("open" if v is None else number(v, 3) for v in ci)
+
+
+def _range_text(low, high, kind: str) -> str:
+    """'923.4–949.4 Pa' (the unit once when both ends share it)."""
+    from rheofit.report.console import shown
+
+    left, right = shown(low, kind), shown(high, kind)
+    if left.split(" ")[-1] == right.split(" ")[-1] and " " in left:
+        return f"{left.rsplit(' ', 1)[0]}–{right}"
+    return f"{left} – {right}"
+
+
+def _lot_column(table, comparison) -> None:
+    width = min(max(len(label) for label in comparison.lots), 10)
+    table.add_column("lot", overflow="fold", min_width=width)
+
+
+def parameter_table(comparison):
+    """Rich table: one row per lot, each parameter with its 95 % interval below it."""
+    from rich.table import Table
+
+    from rheofit.report.console import number
+
+    declaration = comparison.fits[0].declaration
+    table = Table(title=f"Parameters of the {comparison.model} model (SI, 95 % intervals)",
+                  caption="* reference lot")
+    table.add_column("#", justify="right")
+    _lot_column(table, comparison)
+    for spec in declaration.parameters:
+        table.add_column(f"{spec.name} [{spec.unit}]", justify="right", overflow="fold")
+    for i, row in enumerate(comparison.table.to_dict(orient="records")):
+        fit = comparison.fits[i]
+        cells = [f"{number(fit.params[s.name].value, 4)}\n{_short_interval(fit.params[s.name].ci95)}"
+                 for s in declaration.parameters]
+        table.add_row(str(i + 1) + ("*" if i == comparison.reference else ""), row["lot"], *cells)
+    return table
 
 
 def lots_table(comparison):
-    """Rich table: one row per lot, parameters with 95 % intervals, the operating point, the criteria."""
+    """Rich table: one row per lot, the operating value with its interval and both criteria."""
     from rich.table import Table
     from rich.text import Text
 
@@ -123,29 +159,26 @@ def lots_table(comparison):
 
     kind = {"pressure_drop": "pressure", "flow_rate": "flow_rate"}
     solved = comparison.solved
-    table = Table(title=f"Lots compared ({comparison.model} model, tolerance "
-                        f"{100 * comparison.tolerance:g} %)",
-                  caption="parameters and operating values with 95 % intervals; Δ relative to the reference")
+    table = Table(title=f"Against the reference lot (tolerance {100 * comparison.tolerance:g} %)",
+                  caption="* reference lot; Δ point: at the operating point; max Δη: largest "
+                          "viscosity difference over the shared shear-rate range (where: see verdicts)")
     table.add_column("#", justify="right")
-    table.add_column("lot", overflow="fold")
-    table.add_column("parameters [SI], 95 %", no_wrap=True)
+    _lot_column(table, comparison)
     if solved:
-        table.add_column(solved.replace("_", " "), overflow="fold")
-        table.add_column("Δ at the point", justify="right")
-    table.add_column("max Δη (shared range)", justify="right")
-    table.add_column("within", justify="center")
+        table.add_column(solved.replace("_", " "), justify="right")
+        table.add_column("95 % interval", justify="right")
+        table.add_column("Δ point", justify="right")
+    table.add_column("max Δη", justify="right")
+    table.add_column("ok", justify="center")
     for i, row in enumerate(comparison.table.to_dict(orient="records")):
-        fit = comparison.fits[i]
-        params = "\n".join(f"{name} {number(est.value, 3)} {_short_interval(est.ci95)}"
-                           for name, est in fit.params.items())
-        cells = [str(i + 1), row["lot"] + (" (ref.)" if i == comparison.reference else ""), params]
+        cells = [str(i + 1) + ("*" if i == comparison.reference else ""), row["lot"]]
         if solved:
-            cells += [f"{shown(row[solved], kind[solved])}\n[{shown(row[solved + '_low'], kind[solved])}, "
-                      f"{shown(row[solved + '_high'], kind[solved])}]", _percent(row["deviation"])]
-        cells.append(f"{_percent(row['max_viscosity_deviation'])}\nat {number(row['max_viscosity_deviation_at'], 3)} 1/s")
+            cells += [shown(row[solved], kind[solved]),
+                      _range_text(row[solved + "_low"], row[solved + "_high"], kind[solved]),
+                      _percent(row["deviation"])]
+        cells.append(_percent(row["max_viscosity_deviation"]))
         ok = row["within_tolerance"]
-        cells.append(Text("yes" if ok else "NO", style="green" if ok else "bold red"))
-        table.add_row(*[c if isinstance(c, Text) else Text(c) for c in cells])
+        table.add_row(*cells, Text("yes" if ok else "NO", style="green" if ok else "bold red"))
     return table
 
 
@@ -185,7 +218,7 @@ def comparison_block(comparison):
                      "  — no evidence that the lots differ.", style="dim")
     else:
         stats = Text(f"Same-curve test: not available ({test.get('note', '')}).")
-    return Group(head, lots_table(comparison), verdicts, stats, Text("\nFlags:", style="bold"),
+    return Group(head, parameter_table(comparison), lots_table(comparison), verdicts, stats, Text("\nFlags:", style="bold"),
                  flag_lines(comparison.flags), Panel(Text(SAFETY_CAUTION), border_style="yellow"))
 
 
