@@ -71,7 +71,8 @@ def test_bundled_lots_table_verdicts_test_flags_and_caution():
                  "--tolerance", "10%")
     assert result.exit_code == 0, result.output
     out = result.output
-    assert "Lots compared" in out and "Verdicts:" in out
+    assert "Parameters of the carreau model" in out and "Against the reference lot" in out
+    assert "Verdicts:" in out and "NO" in out
     assert "medium_lot_B: within tolerance" in out
     # lot C of the bundled sweeps was made more viscous on purpose (sample_data/make_samples.py)
     assert "medium_lot_C: outside tolerance" in out
