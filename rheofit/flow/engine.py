@@ -137,6 +137,11 @@ class Rheology:
             )
         return self._TABLE[start:stop], lt[start:stop]
 
+    @property
+    def rising_limit(self) -> float:
+        """ln of the shear rate [ln(1/s)] where the flow curve stops rising (inf if it never does)."""
+        return float(self._x[-1]) if self._falls else np.inf
+
     def check_stress(self, stress) -> None:
         """Raise GeometryError when a stress lies above the rising flow curve."""
         top = self._lt[-1]
@@ -380,12 +385,32 @@ def solve_flow_rate(fluid, geometry, flow_rate, method: str = "auto") -> FlowSta
                 return np.log(qk) - log_target[idx], slope
 
         x0 = np.log(target * (k + 1.0) / k)  # the Newtonian wall shear rate
-        lo, hi = log_target.copy(), np.full(target.shape, np.inf)
+        top = rheology.rising_limit
+        lo, hi = log_target.copy(), np.full(target.shape, top)
+        x0 = np.minimum(x0, top)
         g[flowing] = np.exp(_safeguarded_newton(residual, x0, lo, hi))
+        if np.isfinite(top):
+            _check_reached(rheology, geometry, closed, g[flowing], target)
     tau_w = np.zeros(q.shape)
     tau_w[flowing] = rheology.stress(g[flowing])
     dp = geometry.pressure_drop(tau_w)
     return _finish(rheology, geometry, dp, q, tau_w, g, flowing)
+
+
+def _check_reached(rheology, geometry, closed, g, target) -> None:
+    """Raise GeometryError when a flow rate lies beyond the rising part of the flow curve."""
+    with np.errstate(all="ignore"):
+        reached = _q(rheology, geometry, closed, g, rheology.stress(g))
+    short = ~(np.abs(np.log(reached / target)) < 1e-6)
+    if np.any(short):
+        top = np.exp(rheology.rising_limit)
+        most = float(_q(rheology, geometry, closed, np.array([top]), rheology.stress(np.array([top])))[0])
+        raise GeometryError(
+            f"A flow rate of {float(np.max(target[short])) * geometry.flow_scale:.4g} m^3/s is beyond "
+            f"this fluid's flow curve ({rheology.fluid.model} stops rising at a shear rate of "
+            f"{top:.3g} 1/s, carrying at most {most * geometry.flow_scale:.4g} m^3/s here), so no "
+            "laminar solution exists; lower the flow rate or check the model parameters."
+        )
 
 
 # --- thin public wrappers -----------------------------------------------------
