@@ -189,15 +189,18 @@ def _interval_cell(p, attribute, how) -> str:
 
 def prediction_rows(p, fit) -> list[list[str]]:
     """(quantity, value, 95 % interval) rows of one operating point."""
-    rows = [[label, _value(_first(getattr(p, attr)), how), _interval_cell(p, ci, how)]
+    flowing = bool(_first(p.flowing))
+    # a sample at rest has nothing uncertain to show but its threshold
+    rows = [[label, _value(_first(getattr(p, attr)), how), _interval_cell(p, ci, how) if flowing else "—"]
             for label, attr, ci, how in _QUANTITIES]
     low, high = fit.shear_rate_range
     rate = _first(p.wall_shear_rate)
     where = "inside" if low <= rate <= high else "OUTSIDE"
-    if bool(_first(p.flowing)):
+    if flowing:
         rows[5][1] += f" ({where} the measured {number(low)} to {number(high)} 1/s)"
     if p.threshold_pressure_drop > 0:
         rows.append(["threshold pressure drop (flow starts)", shown(p.threshold_pressure_drop, "pressure"), "—"])
+    if p.threshold_pressure_drop > 0 and flowing:
         rows.append(["plug size / channel half-size", f"{_first(p.plug_fraction):.3f}", "—"])
     regime = "laminar" if bool(_first(p.laminar)) else "NOT laminar"
     rows.append(["generalised Reynolds number", f"{number(_first(p.reynolds))} ({regime}; critical "
