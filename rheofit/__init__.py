@@ -35,8 +35,8 @@ _EXPORTS = {
     "predict": "rheofit.flow",
     "FlowPrediction": "rheofit.flow",
     "RheofitError": "rheofit.errors",
-    "compare": "rheofit.compare",
-    "Comparison": "rheofit.compare",
+    "compare": "rheofit.lots",
+    "Comparison": "rheofit.lots",
 }
 
 __all__ = sorted([*_EXPORTS, "Fluid", "fluid"]) + ["__version__"]

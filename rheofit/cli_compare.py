@@ -4,7 +4,7 @@
 ``from rheofit.cli_compare import compare_command`` and
 ``app.command("compare")(compare_command)``.  Thin: parse the options
 (reusing :func:`rheofit.cli.make_geometry` and
-:func:`rheofit.cli.operating_point`), call :func:`rheofit.compare.compare`,
+:func:`rheofit.cli.operating_point`), call :func:`rheofit.lots.compare`,
 print a rich table, the verdicts, the test, the flags and the caution.
 """
 
@@ -88,7 +88,7 @@ def run_comparison(curves, console, **options):
     """rheofit.compare with a progress bar over its steps."""
     from rich.progress import Progress
 
-    from rheofit.compare import compare
+    from rheofit.lots import compare
 
     steps = len(curves) * (2 if options.get("geometry") is not None else 1) + 1
     with Progress(console=console, transient=True) as bar:
@@ -253,7 +253,7 @@ def compare_command(
     from rich.console import Console
 
     from rheofit.cli import make_geometry, operating_point
-    from rheofit.compare import lot_labels
+    from rheofit.lots import lot_labels
     from rheofit.errors import OutputExistsError, ParameterError
     from rheofit.models import get_model
 

@@ -332,7 +332,7 @@ def test_operating_curve_shows_the_threshold_and_a_point_that_does_not_flow(micr
 
 @pytest.fixture(scope="module")
 def comparison():
-    from rheofit.compare import compare
+    from rheofit.lots import compare
 
     curves = [_curve(stem) for stem in ("medium_lot_A", "medium_lot_B", "medium_lot_C")]
     return compare(curves, geometry=TUBE, flow_rate=50 * UL_PER_MIN, model="carreau", samples=60)

@@ -82,7 +82,7 @@ class SampleResult:
 class Analysis:
     """Everything a report shows.
 
-    ``comparison`` is a :class:`rheofit.compare.Comparison` (or None) and
+    ``comparison`` is a :class:`rheofit.lots.Comparison` (or None) and
     ``comparison_note`` says why there is none when several samples were
     given; ``notice`` is shown at the top (e.g. that the data are invented).
     """
@@ -131,23 +131,18 @@ def analyse_sample(curve, *, model: str | None = None, cases=(), density=None) -
 
 def compare_samples(samples, case: OperatingCase | None, *, model: str | None = None,
                     tolerance: float = 0.10, steps: Steps | None = None):
-    """(Comparison or None, note): the lots side by side with :func:`rheofit.compare.compare`.
+    """(Comparison or None, note): the lots side by side with :func:`rheofit.lots.compare`.
 
     The comparison is made at ``case`` (its geometry and operating point)
     when one is given.  The note says why there is no comparison.
     """
     if len(samples) < 2:
         return None, ""
-    try:
-        from rheofit.compare import compare
-    except ImportError:
-        return None, "The lot comparison is not available in this installation (rheofit.compare is missing)."
+    from rheofit.lots import compare
+
     curves = [s.curve for s in samples]
     point = {} if case is None else {"geometry": case.geometry, **case.point}
-    import inspect
-
-    if "progress" in inspect.signature(compare).parameters:
-        point["progress"] = quiet(steps).note
+    point["progress"] = quiet(steps).note
     return compare(curves, tolerance=tolerance, model=model, **point), ""
 
 

@@ -10,39 +10,21 @@ from rheofit.report.plots import (
 )
 
 
-def reference_index(comparison) -> int:
-    """Index of the reference lot (``comparison.reference``: an index or a lot name)."""
-    reference = getattr(comparison, "reference", 0)
-    if isinstance(reference, (int, np.integer)):
-        return int(reference)
-    names = [c.name for c in comparison.curves]
-    return names.index(reference) if reference in names else 0
+def within(comparison) -> list[bool]:
+    """Whether each lot is within tolerance, in input order."""
+    return [bool(v) for v in comparison.table["within_tolerance"].tolist()]
 
 
-def within(comparison) -> list[bool | None]:
-    """Whether each lot is within tolerance (None when the comparison does not say)."""
-    table = getattr(comparison, "table", None)
-    if table is None or "within_tolerance" not in getattr(table, "columns", ()):
-        return [None] * len(comparison.curves)
-    return [bool(v) for v in table["within_tolerance"].tolist()]
-
-
-def _role(i: int, ref: int, inside, tolerance) -> str:
+def _role(i: int, ref: int, inside: bool, tolerance: float) -> str:
     if i == ref:
         return " (reference)"
-    if inside is None:
-        return ""
-    band = f" ±{100 * tolerance:.0f} %" if tolerance is not None else ""
+    band = f" ±{100 * tolerance:.0f} %"
     return f" (within{band})" if inside else f" (OUTSIDE{band})"
 
 
 def verdicts(comparison) -> list[str]:
-    """The verdict of each lot in order ('' when the comparison has none)."""
-    table = getattr(comparison, "table", None)
-    if table is None or "verdict" not in getattr(table, "columns", ()):
-        return [""] * len(comparison.curves)
-    values = [str(v) for v in table["verdict"].tolist()]
-    return (values + [""] * len(comparison.curves))[: len(comparison.curves)]
+    """The verdict of each lot, in input order."""
+    return [str(v) for v in comparison.table["verdict"].tolist()]
 
 
 @styled
@@ -55,11 +37,11 @@ def lot_overlay_figure(comparison):
     """
     figure = new_figure()
     axes = figure.add_subplot()
-    shared = getattr(comparison, "shared_range", None)
+    shared = comparison.shared_range
     if shared is not None:
         axes.axvspan(shared[0], shared[1], color=RANGE_FILL, zorder=0, label="shared shear-rate range")
-    ref = reference_index(comparison)
-    tolerance = getattr(comparison, "tolerance", None)
+    ref = comparison.reference
+    tolerance = comparison.tolerance
     for i, (curve, fit, inside) in enumerate(zip(comparison.curves, comparison.fits, within(comparison))):
         style = series_style(i)
         role = _role(i, ref, inside, tolerance)
@@ -77,7 +59,6 @@ def lot_overlay_figure(comparison):
     log_axes(axes)
     axes.set_xlabel(SHEAR_RATE_LABEL)
     axes.set_ylabel(VISCOSITY_LABEL)
-    model = getattr(comparison, "model", None)
-    axes.set_title(f"Lot comparison{f' ({plain(model)} model)' if model else ''}")
+    axes.set_title(f"Lot comparison ({plain(comparison.model)} model)")
     legend_below(figure, axes, columns=1)
     return figure

@@ -310,36 +310,27 @@ def comparison_section(analysis, figures) -> Raw:
         return tag("section", join(tag("h2", "Lot comparison", id="comparison"),
                                    tag("p", analysis.comparison_note)))
     parts = [tag("h2", "Lot comparison", id="comparison"), tag("p", _comparison_intro(comparison))]
-    frame = getattr(comparison, "table", None)
-    if frame is not None:
-        units = {p.name: p.unit for f in comparison.fits for p in f.declaration.parameters}
-        parts.append(tag("div", comparison_table(frame, units), class_="scroll"))
-    p_value = getattr(comparison, "p_value", None)
-    if p_value is not None and math.isfinite(float(p_value)):
+    units = {p.name: p.unit for f in comparison.fits for p in f.declaration.parameters}
+    parts.append(tag("div", comparison_table(comparison.table, units), class_="scroll"))
+    p_value = comparison.p_value
+    if math.isfinite(float(p_value)):
         parts.append(tag("p", f"p-value of the test that all lots share one curve: {float(p_value):.3g} "
                               f"({'the lots differ beyond their noise' if p_value < 0.05 else 'no significant difference'} "
                               "at the 5 % level)."))
     parts.append(tag("p", tag("strong", "Verdicts")))
     parts.append(bullets(_verdict_lines(comparison), empty="No verdicts."))
-    flags = getattr(comparison, "flags", ())
     parts.append(tag("p", tag("strong", "Flags")))
-    parts.append(bullets([f.message for f in flags], empty="No flags."))
+    parts.append(bullets([f.message for f in comparison.flags], empty="No flags."))
     parts.append(_figures(figures))
     return tag("section", join(*parts))
 
 
 def _comparison_intro(comparison) -> str:
     names = [c.name for c in comparison.curves]
-    from rheofit.report.figures_compare import reference_index
-
-    ref = names[reference_index(comparison)] if names else "—"
-    shared = getattr(comparison, "shared_range", None)
-    where = f" over the shared shear-rate range {number(shared[0])} to {number(shared[1])} 1/s" if shared else ""
-    tolerance = getattr(comparison, "tolerance", None)
-    tol = f", tolerance ±{100 * tolerance:.0f} %" if tolerance is not None else ""
-    model = getattr(comparison, "model", None)
-    return (f"{len(names)} lots ({', '.join(names)}) compared with the {model or 'chosen'} model{where}; "
-            f"reference lot: {ref}{tol}.")
+    low, high = comparison.shared_range
+    return (f"{len(names)} lots ({', '.join(names)}) compared with the {comparison.model} model over "
+            f"the shared shear-rate range {number(low)} to {number(high)} 1/s; reference lot: "
+            f"{names[comparison.reference]}, tolerance ±{100 * comparison.tolerance:.0f} %.")
 
 
 def _verdict_lines(comparison) -> list[str]:

@@ -36,8 +36,6 @@ the difference matters is the tolerance's call.
 from __future__ import annotations
 
 import math
-import sys
-import types
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -608,18 +606,3 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
         p_value=test["p_value"], same_curve=test, reference=reference, shared_range=shared,
         tolerance=tolerance, geometry=geometry, operating_point=point, flags=tuple(flags),
     )
-
-
-class _CallableModule(types.ModuleType):
-    """This module, callable as :func:`compare`.
-
-    ``rheofit.compare`` is the function (lazy export), but importing this
-    submodule (``from rheofit.compare import Comparison``) rebinds the
-    package attribute to the module; calling the module then still works.
-    """
-
-    def __call__(self, *args, **kwargs):
-        return compare(*args, **kwargs)
-
-
-sys.modules[__name__].__class__ = _CallableModule
