@@ -57,7 +57,29 @@ def _emit_json(document: dict, out: Optional[Path], force: bool) -> None:
         sys.stdout.write(text + "\n")
 
 
-def fit_files(files, model: str):
+_ROLES = ("shear_rate", "viscosity", "stress", "temperature")
+_COLUMN_HELP = "Which column holds a quantity, as ROLE=NAME (e.g. 'viscosity=Eta app'); repeatable."
+_UNIT_HELP = "The unit of a column, as ROLE=UNIT (e.g. 'viscosity=mPa*s'); repeatable. Roles: shear_rate, viscosity, stress, temperature."
+
+
+def read_overrides(columns: Optional[list[str]], units: Optional[list[str]]) -> dict:
+    """--column/--unit 'role=value' pairs -> importer keywords (viscosity_unit=..., ...)."""
+    from rheofit.errors import ParameterError, choice_message
+
+    overrides = {}
+    for option, suffix, pairs in (("--column", "column", columns), ("--unit", "unit", units)):
+        for pair in pairs or ():
+            role, found, value = pair.partition("=")
+            role = role.strip().replace("-", "_").replace(" ", "_")
+            if not found or not value.strip():
+                raise ParameterError(f"{option} '{pair}' should read ROLE=VALUE, e.g. {option} viscosity=...")
+            if role not in _ROLES:
+                raise ParameterError(choice_message(f"{option} role", role, _ROLES))
+            overrides[f"{role}_{suffix}"] = value.strip()
+    return overrides
+
+
+def fit_files(files, model: str, overrides: Optional[dict] = None):
     """Read every curve of every file and fit it: [(curve, [FitResult best first])]."""
     from rheofit.fitting import fit, fit_all
     from rheofit.ingest import read_flow_curves
@@ -66,7 +88,7 @@ def fit_files(files, model: str):
     chosen = None if model == "all" else get_model(model).name
     groups = []
     for path in files:
-        for curve in read_flow_curves(path):
+        for curve in read_flow_curves(path, **(overrides or {})):
             results = fit_all(curve) if chosen is None else [fit(curve, chosen)]
             groups.append((curve, results))
     return groups
@@ -80,6 +102,8 @@ def fit_command(
     as_json: bool = typer.Option(False, "--json", help="Print the fits as JSON instead of tables."),
     out: Optional[Path] = typer.Option(None, "--out", "-o", help="Save the fits as JSON (read back by `rheofit flow`)."),
     force: bool = typer.Option(False, "--force", help="Overwrite --out if it exists."),
+    column: Optional[list[str]] = typer.Option(None, "--column", help=_COLUMN_HELP),
+    unit: Optional[list[str]] = typer.Option(None, "--unit", help=_UNIT_HELP),
 ):
     """Fit viscosity models to flow curves, with 95 % intervals and a ranking."""
     from rheofit.saved import fits_document
@@ -88,7 +112,7 @@ def fit_command(
         from rheofit.errors import OutputExistsError
 
         raise OutputExistsError(f"Output file '{out}' already exists; choose another name or pass --force to overwrite it.")
-    groups = fit_files(files, model)
+    groups = fit_files(files, model, read_overrides(column, unit))
     document = fits_document(groups)
     if as_json:
         _emit_json(document, out, force)
@@ -116,7 +140,8 @@ def main() -> None:  # pragma: no cover - console entry
     app()
 
 
-def load_source(source: Path, model: Optional[str], curve: Optional[str] = None):
+def load_source(source: Path, model: Optional[str], curve: Optional[str] = None,
+                overrides: Optional[dict] = None):
     """A FitResult from a saved fit (JSON) or from fitting a data file on the spot."""
     from rheofit.saved import is_saved_fit, load_fit
 
@@ -126,7 +151,7 @@ def load_source(source: Path, model: Optional[str], curve: Optional[str] = None)
     from rheofit.ingest import read_flow_curve
 
     pick = int(curve) if curve and curve.isdigit() else curve
-    curve = read_flow_curve(source, curve=pick)
+    curve = read_flow_curve(source, curve=pick, **(overrides or {}))
     return fit(curve, model) if model else fit_all(curve)[0]
 
 
@@ -173,6 +198,8 @@ def flow_command(
     density: Optional[str] = typer.Option(None, "--density", help="Fluid density, e.g. '1.05 g/mL' (for the Reynolds number; default 1000 kg/m^3)."),
     newtonian_viscosity: Optional[str] = typer.Option(None, "--newtonian-viscosity", help="Reference viscosity for the Newtonian comparison, e.g. '50 mPa s' (default: the model's viscosity at the apparent wall shear rate)."),
     as_json: bool = typer.Option(False, "--json", help="Print the prediction as JSON (SI units)."),
+    column: Optional[list[str]] = typer.Option(None, "--column", help=_COLUMN_HELP),
+    unit: Optional[list[str]] = typer.Option(None, "--unit", help=_UNIT_HELP),
 ):
     """Predict pressure drop or flow rate, wall shear and velocity profile in a tube or slit."""
     from rheofit.flow import predict
@@ -184,7 +211,7 @@ def flow_command(
         model = get_model(model).name
     geometry = make_geometry(diameter, gap, width, length)
     point = operating_point(flow_rate, pressure_drop)
-    result = load_source(source, model, curve)
+    result = load_source(source, model, curve, read_overrides(column, unit))
     reference = None if newtonian_viscosity is None else parse_quantity(newtonian_viscosity, "viscosity")
     if density is not None:
         point["density"] = parse_quantity(density, "density")

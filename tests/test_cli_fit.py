@@ -95,3 +95,36 @@ def test_input_file_is_not_modified(tmp_path):
     before = source.read_bytes()
     run("fit", source, "--model", "bingham")
     assert source.read_bytes() == before
+
+
+def test_unit_override_on_the_command_line(tmp_path):
+    # Source: BIPM SI Brochure, 9th ed. (2019), Table 8: 1 cP = 1 mPa s
+    path = tmp_path / "no_units.csv"
+    path.write_text("shear rate,viscosity\n1,1.0016\n10,1.0016\n100,1.0016\n1000,1.0016\n")
+    result = run("fit", path, "--model", "newtonian", "--unit", "viscosity=cP", "--json")
+    assert result.exit_code == 0, result.output
+    mu = json.loads(result.output)["curves"][0]["fits"][0]["params"]["mu"]["value"]
+    assert mu == pytest.approx(1.0016e-3, rel=1e-9)
+
+
+def test_column_override_on_the_command_line(tmp_path):
+    path = tmp_path / "odd_names.csv"
+    path.write_text("x,y\n1,2\n10,2\n100,2\n1000,2\n")
+    result = run("fit", path, "--model", "newtonian", "--column", "shear_rate=x",
+                 "--column", "viscosity=y", "--json")
+    assert result.exit_code == 0, result.output
+
+
+@pytest.mark.parametrize("option,message", [(["--unit", "viscosity"], "ROLE=VALUE"),
+                                            (["--unit", "viscositty=cP"], "Did you mean 'viscosity'")])
+def test_bad_override_is_one_sentence(option, message):
+    result = run("fit", SAMPLES / "medium_lot_A.csv", *option)
+    assert result.exit_code == 2 and message in result.output
+
+
+def test_unknown_unit_in_a_header_is_named(tmp_path):
+    path = tmp_path / "odd_unit.csv"
+    path.write_text("Shear rate (1/s),Viscosity (furlong)\n1,2\n2,3\n3,4\n")
+    result = run("fit", path)
+    assert result.exit_code == 2
+    assert "'furlong'" in result.output and "--unit viscosity=" in result.output

@@ -114,13 +114,13 @@ def _assumed_flag(role: str, column: Column, unit: str) -> Flag:
         message = (
             f"Column {column.shown} gives no unit, so the viscosity was read in Pa·s (SI); if the "
             "file is in mPa·s or cP every viscosity is 1000 times too high: pass viscosity_unit='mPa*s' "
-            "(or the unit of the file)."
+            "(command line: --unit viscosity=mPa*s) or the unit of the file."
         )
     else:
         shown = {"degC": "°C", "K": "K"}.get(unit, unit)
         message = (
             f"Column {column.shown} gives no unit, so the {_QUANTITY[role]} was read in {shown}; "
-            f"pass {role}_unit= if the file uses another unit."
+            f"pass {role}_unit= (command line: --unit {role}=UNIT) if the file uses another unit."
         )
     return Flag("assumed_unit", message, {"role": role, "column": column.text, "unit": unit})
 
@@ -142,7 +142,7 @@ def _check_unit(unit: str, role: str, column: Column, given, shown: str) -> None
         where = f"{role}_unit='{given}'" if given else f"column {column.shown}"
         raise UnitError(
             f"File '{shown}', {where}: {problem}; name the right column or unit with "
-            f"{role}_column= or {role}_unit=."
+            f"{role}_column= or {role}_unit= (command line: --column {role}=NAME or --unit {role}=UNIT)."
         ) from None
 
 

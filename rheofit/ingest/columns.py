@@ -74,7 +74,9 @@ ROLE_WORDS = (
 
 #: words marking a set point rather than the measured value: such a column loses ties
 _SET_POINT = ("set", "setpoint", "target", "nominal", "preset", "requested")
-_DESCRIPTIVE = {"set", "meas", "avg", "mean", "app", "calc", "raw", "corr", "true", "max", "min", "abs"}
+_DESCRIPTIVE = {"set", "meas", "avg", "mean", "app", "calc", "raw", "corr", "true", "max", "min", "abs",
+                "apparent", "measured", "calculated", "corrected", "average", "nominal", "target",
+                "actual", "setpoint", "fitted", "smoothed", "filtered", "up", "down", "sample"}
 _BRACKETED = re.compile(r"^(?P<name>.*?)\s*(?P<open>[\[({])\s*(?P<unit>[^\[\](){}]*?)\s*[\])}]\s*$")
 _UNITISH = re.compile(r"[\d/·⋅*^⁻°µμ%.]")
 _SEPARATORS = (" / ", ", ", " in ")
@@ -130,7 +132,9 @@ def _looks_like_unit(inside: str, bracket: str) -> bool:
     """Square and curly brackets always hold a unit; parentheses when it looks like one."""
     if bracket != "(" or is_any_unit(inside) or _UNITISH.search(inside):
         return True
-    return len(inside) <= 4 and inside.isalpha() and inside.lower() not in _DESCRIPTIVE
+    # a single word that is no known description is taken as a unit, so that an
+    # unknown unit is reported rather than silently read as SI
+    return inside.isalpha() and len(inside) <= 12 and inside.lower() not in _DESCRIPTIVE
 
 
 def unit_cell(cell: str) -> str | None:
@@ -283,5 +287,6 @@ def _unrecognised(columns: list[Column], chosen: dict, shown: str) -> InputFileE
         f"File '{shown}' has no recognisable {missing} column among {_listing(columns)}; "
         "name the columns with shear_rate_column=, viscosity_column=, stress_column= or "
         "temperature_column= (a header text or a column number from 1), and their units with "
-        "shear_rate_unit=, viscosity_unit=, stress_unit=."
+        "shear_rate_unit=, viscosity_unit=, stress_unit= (command line: --column ROLE=NAME, "
+        "--unit ROLE=UNIT)."
     )
