@@ -14,6 +14,8 @@ from typing import Optional
 
 import typer
 
+from rheofit.cli_options import DENSITY, DIAMETER, FLOW_RATE, GAP, LENGTH, PRESSURE_DROP, WIDTH
+
 app = typer.Typer(
     add_completion=False,
     no_args_is_help=True,
@@ -187,15 +189,15 @@ def operating_point(flow_rate, pressure_drop) -> dict:
 @user_errors
 def flow_command(
     source: Path = typer.Argument(..., help="A sweep (CSV, fitted on the spot) or a saved fit from `rheofit fit --out`."),
-    diameter: Optional[str] = typer.Option(None, "--diameter", "-d", help="Tube inner diameter, e.g. '0.8 mm'."),
-    gap: Optional[str] = typer.Option(None, "--gap", help="Slit gap (height), e.g. '200 um'."),
-    width: Optional[str] = typer.Option(None, "--width", help="Slit width, e.g. '5 mm'."),
-    length: Optional[str] = typer.Option(None, "--length", "-l", help="Channel length, e.g. '30 cm'."),
-    flow_rate: Optional[str] = typer.Option(None, "--flow-rate", "-q", help="Volumetric flow rate, e.g. '10 uL/min' or '1.2 mL/h'."),
-    pressure_drop: Optional[str] = typer.Option(None, "--pressure-drop", "-p", help="Pressure drop over the length, e.g. '25 kPa'."),
+    diameter: Optional[str] = DIAMETER,
+    gap: Optional[str] = GAP,
+    width: Optional[str] = WIDTH,
+    length: Optional[str] = LENGTH,
+    flow_rate: Optional[str] = FLOW_RATE,
+    pressure_drop: Optional[str] = PRESSURE_DROP,
     model: Optional[str] = typer.Option(None, "--model", "-m", help="Model to use (default: the best by AICc)."),
     curve: Optional[str] = typer.Option(None, "--curve", help="Which curve of a file holding several (number from 1, or label such as '37 °C')."),
-    density: Optional[str] = typer.Option(None, "--density", help="Fluid density, e.g. '1.05 g/mL' (for the Reynolds number; default 1000 kg/m^3)."),
+    density: Optional[str] = DENSITY,
     newtonian_viscosity: Optional[str] = typer.Option(None, "--newtonian-viscosity", help="Reference viscosity for the Newtonian comparison, e.g. '50 mPa s' (default: the model's viscosity at the apparent wall shear rate)."),
     as_json: bool = typer.Option(False, "--json", help="Print the prediction as JSON (SI units)."),
     column: Optional[list[str]] = typer.Option(None, "--column", help=_COLUMN_HELP),

@@ -18,6 +18,8 @@ from typing import Optional
 
 import typer
 
+from rheofit.cli_options import DIAMETER, FLOW_RATE, GAP, LENGTH, PRESSURE_DROP, WIDTH
+
 
 def user_errors(command):
     """:func:`rheofit.cli.user_errors`, looked up at call time.
@@ -155,7 +157,7 @@ def lots_table(comparison):
     from rich.table import Table
     from rich.text import Text
 
-    from rheofit.report.console import number, shown
+    from rheofit.report.console import shown
 
     kind = {"pressure_drop": "pressure", "flow_rate": "flow_rate"}
     solved = comparison.solved
@@ -236,12 +238,12 @@ def _write(out: Path, comparison, force: bool) -> None:
 @user_errors
 def compare_command(
     files: list[Path] = typer.Argument(..., help="Sweeps of the lots (CSV); every curve of every file is one lot, in order."),
-    diameter: Optional[str] = typer.Option(None, "--diameter", "-d", help="Tube inner diameter, e.g. '0.8 mm'."),
-    gap: Optional[str] = typer.Option(None, "--gap", help="Slit gap (height), e.g. '200 um'."),
-    width: Optional[str] = typer.Option(None, "--width", help="Slit width, e.g. '5 mm'."),
-    length: Optional[str] = typer.Option(None, "--length", "-l", help="Channel length, e.g. '30 cm'."),
-    flow_rate: Optional[str] = typer.Option(None, "--flow-rate", "-q", help="Volumetric flow rate, e.g. '10 uL/min' (the pressure drops are compared)."),
-    pressure_drop: Optional[str] = typer.Option(None, "--pressure-drop", "-p", help="Pressure drop, e.g. '25 kPa' (the flow rates are compared)."),
+    diameter: Optional[str] = DIAMETER,
+    gap: Optional[str] = GAP,
+    width: Optional[str] = WIDTH,
+    length: Optional[str] = LENGTH,
+    flow_rate: Optional[str] = FLOW_RATE,
+    pressure_drop: Optional[str] = PRESSURE_DROP,
     tolerance: str = typer.Option("10%", "--tolerance", "-t", help="Allowed relative difference from the reference lot: '10%', '10 %' or '0.1'."),
     model: Optional[str] = typer.Option(None, "--model", "-m", help="One model for every lot (default: the best by AICc summed over the lots)."),
     reference: str = typer.Option("1", "--reference", "-r", help="Reference lot: its number from 1 in the order read, or its name."),

@@ -12,6 +12,8 @@ from typing import Optional
 
 import typer
 
+from rheofit.cli_options import DENSITY, DIAMETER, FLOW_RATE, GAP, LENGTH, PRESSURE_DROP, WIDTH
+
 from rheofit.cli import user_errors
 
 
@@ -57,14 +59,14 @@ def _case(diameter, gap, width, length, flow_rate, pressure_drop):
 def report_command(
     files: list[Path] = typer.Argument(..., help="CSV export(s) of shear-rate sweeps; several curves are compared as lots (the first is the reference)."),
     out: Path = typer.Option(..., "--out", "-o", help="The HTML report to write, e.g. report.html."),
-    diameter: Optional[str] = typer.Option(None, "--diameter", "-d", help="Tube inner diameter, e.g. '0.8 mm'."),
-    gap: Optional[str] = typer.Option(None, "--gap", help="Slit gap (height), e.g. '200 um'."),
-    width: Optional[str] = typer.Option(None, "--width", help="Slit width, e.g. '8 mm'."),
-    length: Optional[str] = typer.Option(None, "--length", "-l", help="Channel length, e.g. '30 cm'."),
-    flow_rate: Optional[str] = typer.Option(None, "--flow-rate", "-q", help="Volumetric flow rate, e.g. '50 uL/min'."),
-    pressure_drop: Optional[str] = typer.Option(None, "--pressure-drop", "-p", help="Pressure drop over the length, e.g. '300 Pa'."),
+    diameter: Optional[str] = DIAMETER,
+    gap: Optional[str] = GAP,
+    width: Optional[str] = WIDTH,
+    length: Optional[str] = LENGTH,
+    flow_rate: Optional[str] = FLOW_RATE,
+    pressure_drop: Optional[str] = PRESSURE_DROP,
     model: Optional[str] = typer.Option(None, "--model", "-m", help="Model for the predictions and the comparison (default: each sample's best by AICc)."),
-    density: Optional[str] = typer.Option(None, "--density", help="Fluid density, e.g. '1.05 g/mL' (default 1000 kg/m^3)."),
+    density: Optional[str] = DENSITY,
     figures: Optional[Path] = typer.Option(None, "--figures", help="Also write every figure as PNG and SVG into this folder."),
     force: bool = typer.Option(False, "--force", help="Overwrite the report (and figure files) if they exist."),
 ):
