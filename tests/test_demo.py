@@ -9,13 +9,8 @@ from typer.testing import CliRunner
 
 import rheofit.demo as demo
 from rheofit.cli import app
-from rheofit.cli_report import demo_command, report_command
 from rheofit.errors import OutputExistsError
 
-if not any(c.name == "demo" for c in app.registered_commands):
-    app.command("demo")(demo_command)
-if not any(c.name == "report" for c in app.registered_commands):
-    app.command("report")(report_command)
 
 runner = CliRunner()
 

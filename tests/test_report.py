@@ -13,7 +13,6 @@ import pytest
 from typer.testing import CliRunner
 
 from rheofit.cli import app
-from rheofit.cli_report import demo_command, report_command
 from rheofit.curve import FlowCurve
 from rheofit.errors import FitError, GeometryError, OutputExistsError
 from rheofit.flow import SAFETY_CAUTION, Tube
@@ -23,10 +22,6 @@ from rheofit.report.console import number
 from rheofit.report.figureset import figure_plan
 from rheofit.report.html import build_report, report_files, write_report
 
-if not any(c.name == "report" for c in app.registered_commands):
-    app.command("report")(report_command)
-if not any(c.name == "demo" for c in app.registered_commands):
-    app.command("demo")(demo_command)
 
 SAMPLES = files("rheofit.sample_data")
 EVIL = '<script>alert("x")</script> & lot'
