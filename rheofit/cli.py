@@ -89,10 +89,12 @@ def fit_files(files, model: str, overrides: Optional[dict] = None):
 
     chosen = None if model == "all" else get_model(model).name
     groups = []
-    for path in files:
-        for curve in read_flow_curves(path, **(overrides or {})):
-            results = fit_all(curve) if chosen is None else [fit(curve, chosen)]
-            groups.append((curve, results))
+    with _console(stderr=True).status("reading") as status:  # shown on a terminal only
+        for path in files:
+            for curve in read_flow_curves(path, **(overrides or {})):
+                status.update(f"fitting {curve.name} ({len(groups) + 1} so far)")
+                results = fit_all(curve) if chosen is None else [fit(curve, chosen)]
+                groups.append((curve, results))
     return groups
 
 
@@ -213,11 +215,13 @@ def flow_command(
         model = get_model(model).name
     geometry = make_geometry(diameter, gap, width, length)
     point = operating_point(flow_rate, pressure_drop)
-    result = load_source(source, model, curve, read_overrides(column, unit))
     reference = None if newtonian_viscosity is None else parse_quantity(newtonian_viscosity, "viscosity")
     if density is not None:
         point["density"] = parse_quantity(density, "density")
-    prediction = predict(result, geometry, newtonian_viscosity=reference, **point)
+    with _console(stderr=True).status(f"fitting {source.name}"):  # shown on a terminal only
+        result = load_source(source, model, curve, read_overrides(column, unit))
+    with _console(stderr=True).status("solving the flow and its 95 % interval"):
+        prediction = predict(result, geometry, newtonian_viscosity=reference, **point)
     if as_json:
         sys.stdout.write(json.dumps(prediction.to_dict(), indent=2) + "\n")
         return
