@@ -81,30 +81,49 @@ def test_recovery_table_covers_the_registry():
     assert set(RECOVERY) == set(MODELS), "add a synthetic case for every declared model"
 
 
-#: A 95 % interval misses the truth 1 time in 20, so with ~30 parameters a
-#: given seed often gives one miss somewhere.  Seeds are 100 * base + model
-#: index + 1; base 2 is the first of bases 0..11 with no miss (over those 12
-#: bases 14 of 360 intervals missed, 3.9 %).  Calibration itself is checked
-#: over many replicates in test_coverage.py.
-SEED_BASE = 2
+#: Seeds are 100 * SEED_BASE + model index + 1, fixed before looking at the
+#: results.  A 95 % interval misses the truth 1 time in 20, so over the ~30
+#: intervals of the registry a miss or two is expected: each model must
+#: recover its values and resolve its parameters, and the misses over the
+#: whole registry must stay within the binomial 99 % quantile (calibration
+#: over many replicates is in test_coverage.py).
+SEED_BASE = 0
+
+
+@pytest.fixture(scope="module")
+def recovered():
+    out = {}
+    for model, (true, (low, high)) in RECOVERY.items():
+        seed = 100 * SEED_BASE + list(MODELS).index(model) + 1
+        out[model] = fit(synthetic(model, true, low, high, 32, 0.02, seed), model)
+    return out
 
 
 @pytest.mark.parametrize("model", list(MODELS))
-def test_synthetic_recovery(model):
-    true, (low, high) = RECOVERY[model]
-    seed = 100 * SEED_BASE + list(MODELS).index(model) + 1
-    result = fit(synthetic(model, true, low, high, 32, 0.02, seed), model)
+def test_synthetic_recovery(model, recovered):
+    true, _ = RECOVERY[model]
+    result = recovered[model]
     assert result.model == model
     assert result.rms_log_residual == pytest.approx(0.02, rel=0.35)
     for name, value in true.items():
         estimate = result.params[name]
         assert estimate.resolved, (name, estimate)
         assert estimate.value == pytest.approx(value, rel=0.10), name
-        assert inside(estimate, value), (name, estimate)
         assert estimate.stderr is not None and estimate.stderr > 0
         assert estimate.method == intervals.PROFILE
     assert not result.flags_with("unresolved")
     assert not result.flags_with("at_bound")
+
+
+def test_intervals_contain_the_truth_as_often_as_they_should(recovered):
+    from scipy.stats import binom
+
+    checks = [(model, name, inside(recovered[model].params[name], value))
+              for model, (true, _) in RECOVERY.items() for name, value in true.items()]
+    misses = [(model, name) for model, name, ok in checks if not ok]
+    # Source: binomial distribution of misses of independent 95 % intervals
+    allowed = int(binom.ppf(0.99, len(checks), 0.05))
+    assert len(misses) <= allowed, (misses, allowed)
 
 
 @pytest.mark.parametrize("model", list(MODELS))
