@@ -29,6 +29,14 @@ def _console(stderr: bool = False):
     return Console(stderr=stderr, soft_wrap=stderr)
 
 
+def _error_line(message: str) -> None:
+    """Print one error sentence on stderr (literally: no markup) and exit with code 2."""
+    from rich.markup import escape
+
+    _console(stderr=True).print(f"[bold red]error:[/] {escape(message)}", highlight=False)
+    raise typer.Exit(2)
+
+
 def user_errors(command):
     """Turn RheofitError (and unreadable paths) into one line on stderr, exit 2."""
 
@@ -39,11 +47,9 @@ def user_errors(command):
         try:
             return command(*args, **kwargs)
         except RheofitError as exc:
-            _console(stderr=True).print(f"[bold red]error:[/] {exc}", highlight=False)
-            raise typer.Exit(2) from None
-        except (IsADirectoryError, PermissionError) as exc:
-            _console(stderr=True).print(f"[bold red]error:[/] cannot read '{exc.filename}': {exc.strerror}.")
-            raise typer.Exit(2) from None
+            _error_line(str(exc))
+        except OSError as exc:  # a path the system refuses: say which and why, in one line
+            _error_line(f"cannot use '{exc.filename}': {exc.strerror or exc}.")
 
     return wrapper
 
@@ -150,7 +156,7 @@ def load_source(source: Path, model: Optional[str], curve: Optional[str] = None,
     from rheofit.saved import is_saved_fit, load_fit
 
     if is_saved_fit(source):
-        return load_fit(source, model=model, curve=int(curve) - 1 if curve and curve.isdigit() else 0)
+        return load_fit(source, model=model, curve=curve)
     from rheofit.fitting import fit, fit_all
     from rheofit.ingest import read_flow_curve
 

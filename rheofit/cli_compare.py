@@ -263,8 +263,12 @@ def compare_command(
         raise OutputExistsError(f"Output file '{out}' already exists; choose another name or pass --force to overwrite it.")
     fraction = parse_tolerance(tolerance)
     model = None if model is None else get_model(model).name
-    geometry = make_geometry(diameter, gap, width, length)
-    point = operating_point(flow_rate, pressure_drop)
+    channel = (diameter, gap, width, length, flow_rate, pressure_drop)
+    if all(option is None for option in channel):  # the curves alone are compared
+        geometry, point = None, {}
+    else:
+        geometry = make_geometry(diameter, gap, width, length)
+        point = operating_point(flow_rate, pressure_drop)
     status = Console(stderr=True)
     curves = read_lots(files, status)
     if len(curves) < 2:

@@ -29,15 +29,13 @@ def _read_curves(files):
     from rheofit.ingest import read_flow_curves
     from rheofit.saved import is_saved_fit
 
-    curves = []
     for path in files:
         if is_saved_fit(path):
             raise InputFileError(
                 f"'{path}' is a saved fit; the report needs the measured sweep it was fitted from "
                 "(the CSV export), to show the data and the residuals."
             )
-        curves += read_flow_curves(path)
-    return curves
+    return [curve for path in files for curve in read_flow_curves(path)]
 
 
 def _case(diameter, gap, width, length, flow_rate, pressure_drop):
@@ -73,19 +71,20 @@ def report_command(
     """Write one self-contained HTML report: fits, flags, flow prediction, lot comparison, figures."""
     from rheofit.models import get_model
     from rheofit.report.analysis import analyse
+    from rheofit.output import make_folder
     from rheofit.report.html import refuse_existing, write_report
     from rheofit.report.progress import rich_steps
     from rheofit.units import parse_quantity
 
     if not force:
         refuse_existing([out])
+    if figures is not None:
+        make_folder(figures)
     model = None if model is None else get_model(model).name
     case = _case(diameter, gap, width, length, flow_rate, pressure_drop)
     rho = None if density is None else parse_quantity(density, "density")
+    curves = _read_curves(files)  # before the progress display, so an error stands alone
     with rich_steps() as steps:
-        steps.begin("reading the sweeps", len(files))
-        curves = _read_curves(files)
-        steps.advance()
         analysis = analyse(curves, model=model, cases=[case] if case else [], density=rho, steps=steps)
         path = write_report(out, analysis, figures_dir=figures, force=force, steps=steps)
     where = f"; figures in {figures}" if figures is not None else ""

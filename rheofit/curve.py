@@ -6,6 +6,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from rheofit.errors import ParameterError
+
 
 @dataclass(frozen=True)
 class Flag:
@@ -24,6 +26,14 @@ class Flag:
 
     def __str__(self) -> str:
         return self.message
+
+
+def _same_length(**arrays) -> None:
+    """Raise ParameterError naming the lengths when the arrays of a curve do not match."""
+    sizes = {name: np.shape(a) for name, a in arrays.items()}
+    if len(set(sizes.values())) > 1:
+        listed = ", ".join(f"{name} {size[0] if size else 'scalar'}" for name, size in sizes.items())
+        raise ParameterError(f"The arrays of a flow curve must have the same length; got {listed}.")
 
 
 @dataclass(frozen=True)
@@ -67,19 +77,21 @@ class FlowCurve:
             arr = np.array(getattr(self, attr), dtype=float)
             arr.setflags(write=False)
             object.__setattr__(self, attr, arr)
-        if not (self.shear_rate.shape == self.viscosity.shape == self.stress.shape):
-            raise ValueError("shear_rate, viscosity and stress must have the same length")
+        _same_length(shear_rate=self.shear_rate, viscosity=self.viscosity, stress=self.stress)
 
     @classmethod
     def from_arrays(cls, shear_rate, viscosity=None, stress=None, **kwargs) -> "FlowCurve":
         """Build a curve from shear rate and either viscosity or stress (SI)."""
-        shear_rate = np.asarray(shear_rate, dtype=float)
         if viscosity is None and stress is None:
-            raise ValueError("give viscosity or stress")
+            raise ParameterError("A flow curve needs the viscosity or the stress beside the shear rate; give one.")
+        shear_rate = np.asarray(shear_rate, dtype=float)
+        given = {"viscosity": viscosity} if viscosity is not None else {"stress": stress}
+        given = {k: np.asarray(v, dtype=float) for k, v in given.items()}
+        _same_length(shear_rate=shear_rate, **given)
         if viscosity is None:
-            viscosity = np.asarray(stress, dtype=float) / shear_rate
+            viscosity = given["stress"] / shear_rate
         if stress is None:
-            stress = np.asarray(viscosity, dtype=float) * shear_rate
+            stress = given["viscosity"] * shear_rate
         return cls(shear_rate, viscosity, stress, **kwargs)
 
     def __len__(self) -> int:

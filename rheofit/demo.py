@@ -88,6 +88,10 @@ def sample_curves() -> dict:
 def _refuse(out: Path) -> None:
     from rheofit.errors import OutputExistsError
 
+    if out.exists() and not out.is_dir():
+        raise OutputExistsError(
+            f"'{out}' is a file, not a folder; give the demo a folder with --out (it is made if missing)."
+        )
     taken = [name for name in (REPORT_NAME, FITS_NAME) if (out / name).exists()]
     if taken:
         raise OutputExistsError(

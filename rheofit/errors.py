@@ -55,7 +55,4 @@ def nearest(word: str, choices: Iterable[str]) -> str:
 def choice_message(kind: str, word: str, choices: Iterable[str]) -> str:
     """Message for an unknown name: quote it, list the valid ones, suggest one."""
     choices = list(choices)
-    return (
-        f"Unknown {kind} '{word}'. Valid {kind}s: {', '.join(choices)}."
-        f"{nearest(word, choices)}"
-    )
+    return f"Unknown {kind} '{word}'; choose one of: {', '.join(choices)}.{nearest(word, choices)}"

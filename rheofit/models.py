@@ -61,7 +61,7 @@ class ViscosityModel:
         for p in self.parameters:
             if p.name == name:
                 return p
-        raise ParameterError(choice_message(f"parameter of {self.name}", name, self.parameter_names))
+        raise ParameterError(choice_message(f"{self.name} parameter", name, self.parameter_names))
 
     def stress(self, shear_rate, **params) -> np.ndarray:
         """Shear stress tau [Pa] at ``shear_rate`` [1/s]."""
@@ -110,7 +110,7 @@ class ViscosityModel:
         names = self.parameter_names
         for key in params:
             if key not in names:
-                raise ParameterError(choice_message(f"parameter of {self.name}", key, names))
+                raise ParameterError(choice_message(f"{self.name} parameter", key, names))
         missing = [n for n in names if n not in params]
         if missing:
             raise ParameterError(
@@ -118,7 +118,12 @@ class ViscosityModel:
             )
         out = {}
         for p in self.parameters:
-            value = float(params[p.name])
+            try:
+                value = float(params[p.name])
+            except (TypeError, ValueError):
+                raise ParameterError(
+                    f"{self.name}: {p.name} = {params[p.name]!r} is not a number; give it in {p.unit}."
+                ) from None
             if not (np.isfinite(value) and p.lower <= value <= p.upper):
                 raise ParameterError(
                     f"{self.name}: {p.name} = {value:g} is outside its physical range "

@@ -15,6 +15,19 @@ def _umask() -> int:
     return mask
 
 
+def make_folder(folder) -> Path:
+    """Create ``folder`` (and its parents) for outputs, or say in one sentence why not."""
+    folder = Path(folder)
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except (FileExistsError, NotADirectoryError):
+        raise OutputExistsError(
+            f"Cannot write into '{folder}': it (or a folder above it) is a file, not a folder; "
+            "choose another output path."
+        ) from None
+    return folder
+
+
 def write_atomic(path, data: str | bytes, *, force: bool = False) -> Path:
     """Write ``data`` to ``path`` via a temporary file in the same folder and a rename.
 
@@ -22,11 +35,13 @@ def write_atomic(path, data: str | bytes, *, force: bool = False) -> Path:
     only when ``force`` is true (otherwise OutputExistsError).
     """
     path = Path(path)
+    if path.is_dir():
+        raise OutputExistsError(f"Output '{path}' is a folder; give the name of a file to write.")
     if path.exists() and not force:
         raise OutputExistsError(
             f"Output file '{path}' already exists; choose another name or pass --force to overwrite it."
         )
-    path.parent.mkdir(parents=True, exist_ok=True)
+    make_folder(path.parent)
     mode = "wb" if isinstance(data, bytes) else "w"
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:

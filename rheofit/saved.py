@@ -5,7 +5,7 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from rheofit.errors import InputFileError, ModelNameError, choice_message
+from rheofit.errors import InputFileError, ModelNameError
 
 KIND = "rheofit-fits"
 VERSION = 1
@@ -42,30 +42,61 @@ def is_saved_fit(path) -> bool:
         return False
 
 
-def load_fit(path, model: str | None = None, curve: int = 0):
-    """Read one FitResult back from a saved-fit file (the best one unless ``model``)."""
-    from rheofit.fitting import FitResult
-
-    path = Path(path)
+def _document(path: Path) -> dict:
+    """The saved-fit document in ``path``, or InputFileError saying what is wrong."""
+    if not path.is_file():
+        raise InputFileError(f"Saved fit '{path}' does not exist; check the path and the file name.")
     try:
         document = json.loads(path.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError, ValueError) as exc:
-        raise InputFileError(f"Cannot read saved fit '{path}': {exc}.") from None
+    except (UnicodeDecodeError, ValueError):
+        document = None
     if not isinstance(document, dict) or document.get("kind") != KIND:
         raise InputFileError(
             f"'{path}' is not a saved rheofit fit; make one with `rheofit fit DATA.csv --out {path.name}`."
         )
-    curves = document.get("curves") or []
-    if not 0 <= curve < len(curves):
-        raise InputFileError(f"Saved fit '{path}' holds {len(curves)} curve(s); curve {curve} does not exist.")
-    fits = curves[curve]["fits"]
+    return document
+
+
+def _pick_curve(path: Path, curves: list, curve) -> dict:
+    """The saved curve chosen by number (from 1) or name; the only one when ``curve`` is None."""
+    names = [f"{i}: {c.get('name', '')}" for i, c in enumerate(curves, start=1)]
+    if curve is None and len(curves) == 1:
+        return curves[0]
+    if curve is None:
+        raise InputFileError(
+            f"Saved fit '{path}' holds {len(curves)} curves ({', '.join(names)}); pick one with --curve N."
+        )
+    text = str(curve).strip()
+    if text.isdigit() and 1 <= int(text) <= len(curves):
+        return curves[int(text) - 1]
+    for entry in curves:
+        if str(entry.get("name", "")).strip().lower() == text.lower():
+            return entry
+    raise InputFileError(
+        f"Saved fit '{path}' holds no curve '{text}'; its curves are {', '.join(names) or 'none'}."
+    )
+
+
+def load_fit(path, model: str | None = None, curve=None):
+    """Read one FitResult back from a saved-fit file (the best one unless ``model``).
+
+    ``curve`` picks a curve of a file holding several: its number counted
+    from 1, or its name.
+    """
+    from rheofit.fitting import FitResult
+
+    path = Path(path)
+    entry = _pick_curve(path, _document(path).get("curves") or [], curve)
+    fits = entry.get("fits") or []
+    label = entry.get("name", "") or "the curve"
     if not fits:
-        raise InputFileError(f"Saved fit '{path}' holds no fitted model for curve {curve}.")
+        raise InputFileError(f"Saved fit '{path}' holds no fitted model for {label}; fit it again with `rheofit fit`.")
     if model is None:
         return FitResult.from_dict(fits[0])
-    for entry in fits:
-        if entry["model"] == model:
-            return FitResult.from_dict(entry)
+    for fitted in fits:
+        if fitted["model"] == model:
+            return FitResult.from_dict(fitted)
     raise ModelNameError(
-        choice_message(f"model saved in '{path.name}'", model, [f["model"] for f in fits])
+        f"Model '{model}' was not saved in '{path.name}'; saved models: "
+        f"{', '.join(f['model'] for f in fits)}. Fit it with `rheofit fit DATA.csv --model {model}`."
     )

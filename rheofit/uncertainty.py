@@ -544,7 +544,7 @@ def viscosity_band(fit, shear_rate, level: float = LEVEL, *, samples: int = BAND
     bad = ~(np.isfinite(flat) & (flat > 0))
     if bad.any():
         raise ParameterError(
-            f"shear_rate = {flat[bad][0]!r} is not a positive, finite number; give shear rates in 1/s."
+            f"shear_rate = {float(flat[bad][0]):g} is not a positive, finite number; give shear rates in 1/s."
         )
     draws = parameter_draws(fit, samples, seed)
     central = fit.viscosity(flat)

@@ -185,6 +185,8 @@ def parse_quantity(text, kind: str) -> float:
         return float(text)
     match = _NUMBER.match(str(text))
     if not match:
+        if kind == "dimensionless":
+            raise UnitError(f"Cannot read '{text}' as a number; write a plain number such as '0.1'.")
         raise UnitError(
             f"Cannot read '{text}' as a {kind.replace('_', ' ')}; "
             f"write a number and a unit, e.g. '{_first_example(kind)}'."

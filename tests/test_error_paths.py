@@ -7,9 +7,9 @@ into one line), ``curve.py`` (arrays that do not fit together) and every raise
 of ``saved.py`` (reading a saved fit back).  Each test matches a distinctive
 part of the message and the file, value or curve number it names.
 
-Defects found while auditing are pinned at the end as strict xfails, each with
-the file:line at fault: they fail loudly (XPASS) once the defect is fixed, so
-the marker can be removed then.
+The defects the audit found (tracebacks for outputs under a regular file,
+markup eating bracketed units, curve numbers counted from 0, ...) were fixed;
+the tests at the end keep them fixed.
 """
 
 from __future__ import annotations
@@ -88,8 +88,8 @@ def test_unknown_top_level_name_is_an_attribute_error():
 # --- rheofit/cli.py:44-46: unreadable paths become one line ----------------------------------
 
 @pytest.mark.parametrize("error, words", [
-    (PermissionError(13, "Permission denied", "locked.csv"), "cannot read 'locked.csv': Permission denied."),
-    (IsADirectoryError(21, "Is a directory", "sweeps"), "cannot read 'sweeps': Is a directory."),
+    (PermissionError(13, "Permission denied", "locked.csv"), "cannot use 'locked.csv': Permission denied."),
+    (IsADirectoryError(21, "Is a directory", "sweeps"), "cannot use 'sweeps': Is a directory."),
 ])
 def test_unreadable_path_ends_in_one_sentence(tmp_path, monkeypatch, error, words):
     def refuse(*args, **kwargs):
@@ -112,14 +112,14 @@ def test_out_that_is_a_folder_with_force_ends_in_one_sentence(tmp_path):
 # --- rheofit/curve.py:71 and :78 ---------------------------------------------------------------
 
 def test_arrays_of_different_lengths_are_refused():
-    with pytest.raises(ValueError, match="^shear_rate, viscosity and stress must have the same length$"):
+    with pytest.raises(ParameterError, match="same length; got shear_rate 3, viscosity 2, stress 3"):
         FlowCurve(np.array([1.0, 10.0, 100.0]), np.array([2.0, 1.0]), np.array([2.0, 10.0, 100.0]))
     with pytest.raises(ValueError, match="must have the same length"):
         FlowCurve.from_arrays([1.0, 10.0, 100.0], viscosity=[2.0, 1.0, 0.5], stress=[2.0, 10.0])
 
 
 def test_from_arrays_needs_viscosity_or_stress():
-    with pytest.raises(ValueError, match="^give viscosity or stress$"):
+    with pytest.raises(ParameterError, match="needs the viscosity or the stress"):
         FlowCurve.from_arrays([1.0, 10.0, 100.0])
 
 
@@ -128,18 +128,22 @@ def test_from_arrays_needs_viscosity_or_stress():
 def test_a_saved_fit_reads_back(saved_fit):
     # the positive control for the errors below: the same layout, read without complaint
     assert load_fit(saved_fit).model == "newtonian"
-    assert load_fit(saved_fit, model="newtonian", curve=0).model == "newtonian"
+    assert load_fit(saved_fit, model="newtonian", curve=1).model == "newtonian"
+    assert load_fit(saved_fit, curve="tiny").model == "newtonian"
+
+
+def test_missing_saved_fit_is_named(tmp_path):  # saved.py: _document
+    with pytest.raises(InputFileError, match=r"^Saved fit '.*missing\.json' does not exist; check the path"):
+        load_fit(tmp_path / "missing.json")
 
 
 @pytest.mark.parametrize("name, content", [
-    ("missing.json", None),
     ("truncated.json", b'{"kind": "rheofit-fits", "curves": ['),
     ("latin1.json", '{"kind": "rheofit-fits", "note": "25 \u00b0C"}'.encode("latin-1")),
 ])
-def test_unreadable_saved_fit_names_the_file(tmp_path, name, content):  # saved.py:53
-    if content is not None:
-        (tmp_path / name).write_bytes(content)
-    with pytest.raises(InputFileError, match=r"^Cannot read saved fit '.*") as info:
+def test_unreadable_saved_fit_names_the_file(tmp_path, name, content):  # saved.py: _document
+    (tmp_path / name).write_bytes(content)
+    with pytest.raises(InputFileError, match="is not a saved rheofit fit") as info:
         load_fit(tmp_path / name)
     assert f"{name}'" in str(info.value)
 
@@ -153,16 +157,28 @@ def test_json_that_is_not_a_saved_fit(tmp_path, content):  # saved.py:55
     assert message.startswith(f"'{path}'") and "`rheofit fit DATA.csv --out other.json`" in message
 
 
-@pytest.mark.parametrize("curve", [1, 5, -1])
-def test_curve_beyond_the_saved_ones(tmp_path, curve):  # saved.py:60 (the API counts from 0)
+@pytest.mark.parametrize("curve", [0, 2, -1, "B"])
+def test_curve_beyond_the_saved_ones(tmp_path, curve):  # saved.py: _pick_curve (numbers from 1, or names)
     path = saved_document(tmp_path, [{"name": "A", "fits": [{"model": "power_law"}]}])
-    with pytest.raises(InputFileError, match=rf"fit\.json' holds 1 curve\(s\); curve {curve} does not exist\.$"):
+    with pytest.raises(InputFileError, match=rf"fit\.json' holds no curve '{curve}'; its curves are 1: A\.$"):
         load_fit(path, curve=curve)
 
 
-def test_saved_curve_without_fits(tmp_path):  # saved.py:63
+def test_several_saved_curves_need_a_choice(tmp_path):
+    path = saved_document(tmp_path, [{"name": "A", "fits": []}, {"name": "B", "fits": []}])
+    with pytest.raises(InputFileError, match=r"holds 2 curves \(1: A, 2: B\); pick one with --curve N"):
+        load_fit(path)
+
+
+def test_saved_curve_without_fits(tmp_path):  # saved.py: load_fit
     path = saved_document(tmp_path, [{"name": "A", "fits": []}])
-    with pytest.raises(InputFileError, match=r"fit\.json' holds no fitted model for curve 0\.$"):
+    with pytest.raises(InputFileError, match=r"fit\.json' holds no fitted model for A; fit it again"):
+        load_fit(path)
+
+
+def test_saved_curve_without_a_fits_entry(tmp_path):
+    path = saved_document(tmp_path, [{"name": "A"}])
+    with pytest.raises(InputFileError, match="holds no fitted model for A"):
         load_fit(path)
 
 
@@ -176,7 +192,7 @@ def test_model_that_was_not_saved(tmp_path):  # saved.py:69
 
 def test_saved_fit_errors_on_the_command_line(saved_fit):
     too_far = error_sentence(run("flow", saved_fit, "--curve", "3", *CHANNEL))
-    assert f"'{saved_fit}' holds 1 curve(s)" in too_far and "does not exist" in too_far
+    assert f"'{saved_fit}' holds no curve '3'" in too_far and "1: tiny" in too_far
     unsaved = run("flow", saved_fit, "--model", "carreau", *CHANNEL)
     assert unsaved.exit_code == 2 and "Traceback" not in unsaved.output
     last = unsaved.stderr.strip().splitlines()[-1]
@@ -212,10 +228,7 @@ def test_report_on_a_saved_fit(saved_fit, tmp_path):
     assert not out.exists()
 
 
-# --- known defects (strict xfail: they turn into failures once fixed; then drop the marker) ----------
-
-@pytest.mark.xfail(strict=True, reason="demo.py:82-88/output.py:29: an --out that is a regular file ends in a "
-                                       "FileExistsError traceback (exit 1) after all the work")
+# --- defects found by the audit, fixed: these keep them fixed --------------------------------------
 def test_demo_out_pointing_at_a_regular_file(tmp_path, monkeypatch):
     from rheofit import demo
 
@@ -224,80 +237,40 @@ def test_demo_out_pointing_at_a_regular_file(tmp_path, monkeypatch):
     sentence = error_sentence(run("demo", "--out", target))
     assert "not_a_folder" in sentence
     assert target.read_text() == "keep me\n"
-
-
-@pytest.mark.xfail(strict=True, reason="output.py:29: --out inside a regular file ends in a FileExistsError "
-                                       "traceback (exit 1), not in one sentence")
 def test_fit_out_below_a_regular_file(tmp_path):
     blocker = write(tmp_path, "results", "a file\n")
     sentence = error_sentence(run("fit", write(tmp_path, "s.csv", TINY), "--model", "newtonian",
                                   "--out", blocker / "fit.json"))
     assert "results" in sentence
-
-
-@pytest.mark.xfail(strict=True, reason="cli.py:45: an error while writing --out names the temporary file and "
-                                       "says 'cannot read'")
 def test_out_folder_error_names_the_out_path(tmp_path):
     folder = tmp_path / "results"
     folder.mkdir()
     sentence = error_sentence(run("fit", write(tmp_path, "s.csv", TINY), "--model", "newtonian",
                                   "--out", folder, "--force"))
     assert f"'{folder}'" in sentence and ".tmp" not in sentence and "cannot read" not in sentence
-
-
-@pytest.mark.xfail(strict=True, reason="cli.py:42: the message is printed as rich markup, so a unit in "
-                                       "brackets that starts with a small letter ([mPa s], [cP]) vanishes")
 def test_bracketed_unit_survives_on_stderr(tmp_path):
     path = write(tmp_path, "m.csv", "Shear rate [1/s],Viscosity [mPa s]\n1,20\n10,abc\n100,4\n")
     assert "column 'Viscosity [mPa s]'" in error_sentence(run("fit", path))
-
-
-@pytest.mark.xfail(strict=True, reason="cli_compare.py:266 calls make_geometry unconditionally: compare "
-                                       "without a channel asks for --length instead of saying two lots are needed")
 def test_compare_with_one_file_and_no_channel(tmp_path):
     sentence = error_sentence(run("compare", write(tmp_path, "only.csv", TINY), "--model", "power_law"))
     assert "at least two lots" in sentence
-
-
-@pytest.mark.xfail(strict=True, reason="cli.py:153 + saved.py:60: a saved fit's --curve is reported counted "
-                                       "from 0 (--curve 3 -> 'curve 2', --curve 0 -> 'curve -1')")
 def test_saved_fit_curve_number_is_the_one_given(saved_fit):
-    assert "curve 3 does not exist" in error_sentence(run("flow", saved_fit, "--curve", "3", *CHANNEL))
-
-
-@pytest.mark.xfail(strict=True, reason="cli.py:153: a --curve label with a saved fit is ignored and the first "
-                                       "curve used silently")
+    assert "no curve '3'" in error_sentence(run("flow", saved_fit, "--curve", "3", *CHANNEL))
 def test_saved_fit_curve_label_is_not_ignored(saved_fit):
-    assert "25 °C" in error_sentence(run("flow", saved_fit, "--curve", "25 °C", *CHANNEL))
-
-
-@pytest.mark.xfail(strict=True, reason="errors.py:58 pluralises by appending 's': 'Valid parameter of "
-                                       "crosss', 'Valid model saved in 'fit.json's'")
+    assert "no curve '25 °C'" in error_sentence(run("flow", saved_fit, "--curve", "25 °C", *CHANNEL))
 def test_choice_message_plural_reads_right():
     with pytest.raises(ParameterError) as info:
         MODELS["cross"].parameter("n")
     assert "crosss" not in str(info.value)
-
-
-@pytest.mark.xfail(strict=True, reason="flow/engine.py:316, uncertainty.py:546: the value is shown as "
-                                       "'np.float64(-1e-09)' (numpy repr)")
 def test_bad_operating_value_is_shown_as_a_number():
     from rheofit.flow import Tube, predict
 
     with pytest.raises(GeometryError) as info:
         predict(rheofit.fluid("newtonian", mu=1e-3), Tube(1e-3, 0.1), flow_rate=-1e-9)
     assert "flow rate = -1e-09 is" in str(info.value)
-
-
-@pytest.mark.xfail(strict=True, reason="curve.py:75-81: from_arrays multiplies before checking, so one short "
-                                       "array gives numpy's broadcast error instead of the length message")
 def test_from_arrays_with_one_short_array():
     with pytest.raises(ValueError, match="same length"):
         FlowCurve.from_arrays([1.0, 10.0, 100.0], viscosity=[2.0, 1.0])
-
-
-@pytest.mark.xfail(strict=True, reason="models.py:120: a parameter value that is not a number escapes as a bare "
-                                       "ValueError without the parameter's name")
 def test_non_numeric_parameter_is_a_parameter_error():
     with pytest.raises(ParameterError, match="K"):
         rheofit.fluid("power_law", K="thick", n=0.5)

@@ -402,7 +402,7 @@ def test_non_positive_values_are_named(column, bad, word):
 def test_unknown_model_and_interval_method():
     with pytest.raises(ModelNameError, match="Did you mean 'carreau'"):
         fit(tiny_curve(8), "carreu")
-    with pytest.raises(ParameterError, match="Valid interval methods: auto, profile, wald"):
+    with pytest.raises(ParameterError, match="choose one of: auto, profile, wald"):
         fit(tiny_curve(8), "power_law", interval_method="bootstrapp")
     with pytest.raises(ParameterError, match="interval method"):
         fit_all(tiny_curve(8), interval_method="exact")

@@ -358,7 +358,7 @@ def test_not_a_fluid():
 
 
 def test_unknown_method():
-    with pytest.raises(ParameterError, match="Valid methods: auto, generic"):
+    with pytest.raises(ParameterError, match="choose one of: auto, generic"):
         engine.flow_rate(WATER, TUBE, 1e3, method="fast")
 
 

@@ -146,5 +146,5 @@ def test_as_fluid_rejects_other_objects():
 
 
 def test_check_rejects_unknown_parameter_name():
-    with pytest.raises(ParameterError, match="Valid parameter of cross"):
+    with pytest.raises(ParameterError, match="Unknown cross parameter 'n'; choose one of: eta0, eta_inf, lam, m"):
         MODELS["cross"].parameter("n")

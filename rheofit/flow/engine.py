@@ -314,7 +314,7 @@ def _operating_values(values, name: str) -> np.ndarray:
     bad = ~(np.isfinite(arr) & (arr >= 0.0))
     if bad.any():
         raise GeometryError(
-            f"{name} = {arr[bad][0]!r} is not a non-negative, finite number; "
+            f"{name} = {float(arr[bad][0]):g} is not a non-negative, finite number; "
             f"give {name} in SI units ({_SI[name]}), zero or above."
         )
     return arr

@@ -18,7 +18,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from rheofit.curve import Flag
-from rheofit.errors import GeometryError, ParameterError
+from rheofit.errors import GeometryError, ParameterError, UnitError
 from rheofit.fluid import Fluid, as_fluid
 from rheofit.flow import engine, regime
 from rheofit.flow.geometry import check_geometry
@@ -267,7 +267,10 @@ def _operating_input(value, kind: str):
 
 
 def _positive(value, name: str, kind: str, example: str) -> float:
-    number = parse_quantity(value, kind) if isinstance(value, str) else value
+    try:
+        number = parse_quantity(value, kind) if isinstance(value, str) else value
+    except UnitError as exc:
+        raise UnitError(f"{name}: {exc}") from None
     try:
         number = float(number)
     except (TypeError, ValueError):

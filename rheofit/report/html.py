@@ -117,16 +117,18 @@ def write_report(path, analysis, *, figures_dir=None, force: bool = False,
     Nothing is overwritten without ``force``: the check runs before any
     work, and raises OutputExistsError naming the file.
     """
-    from rheofit.output import write_atomic
+    from rheofit.output import make_folder, write_atomic
     from rheofit.report import plots
 
     if not force:
         refuse_existing(report_files(path, analysis, figures_dir))
-    keep = None
+
+    def keep(key, fig, svg):
+        plots.save_figure(fig, figures_dir, key, force=force, svg=svg)
+
     if figures_dir is not None:
-        def keep(key, fig, svg):
-            plots.save_figure(fig, figures_dir, key, force=force, svg=svg)
-    text = build_report(analysis, steps=steps, keep=keep)
+        make_folder(figures_dir)  # before any drawing: a file in the way is refused at once
+    text = build_report(analysis, steps=steps, keep=keep if figures_dir is not None else None)
     return write_atomic(path, text, force=force)
 
 
