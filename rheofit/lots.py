@@ -447,7 +447,7 @@ def _verdict(solved, deviation, curve_dev, at, tolerance, gamma_w, shared) -> tu
         return "", (f"within tolerance: {point}viscosity within {_pct(curve_dev, sign=False)} "
                     "over the shared range")
     if solved is None:
-        return "curve", f"outside tolerance: {curve_text}"
+        return "curve", f"outside tolerance: {curve_text.replace('the viscosity by', 'the viscosity differs by', 1)}"
     if point_ok:
         return "curve", (f"same {word} at this operating point ({_pct(deviation)}), but the curve "
                          f"differs by up to {_pct(curve_dev)} elsewhere in the shared range "
