@@ -192,7 +192,7 @@ def test_curves_only_without_an_operating_point():
     assert c.predictions == () and c.geometry is None and c.solved is None
     assert "pressure_drop" not in c.table.columns and "deviation" not in c.table.columns
     assert c.table["failed"][1] == "curve"
-    assert c.table["verdict"][1].startswith("outside tolerance: the viscosity by up to +")
+    assert c.table["verdict"][1].startswith("outside tolerance: the viscosity differs by up to +")
 
 
 def test_model_is_the_best_by_summed_aicc():
