@@ -101,32 +101,16 @@ def read_flow_curves(
     return _finish(drafts, name or path.stem, shown)
 
 
-def read_flow_curve(
-    path,
-    *,
-    shear_rate_column=None,
-    viscosity_column=None,
-    stress_column=None,
-    temperature_column=None,
-    shear_rate_unit=None,
-    viscosity_unit=None,
-    stress_unit=None,
-    temperature_unit=None,
-    name=None,
-    curve=None,
-) -> FlowCurve:
-    """The one flow curve of a file (see :func:`read_flow_curves` for the other keywords).
+def read_flow_curve(path, *, curve=None, **overrides) -> FlowCurve:
+    """The one flow curve of a file.
 
-    ``curve`` picks one when the file holds several: its number counted from
-    1, or its label (``"25 °C"``, ``"lot B"``).  Without it, a file with
-    several curves raises InputFileError listing them.
+    ``overrides`` are the column, unit and name keywords of
+    :func:`read_flow_curves`.  ``curve`` picks one when the file holds
+    several: its number counted from 1, or its label (``"25 °C"``,
+    ``"lot B"``).  Without it, a file with several curves raises
+    InputFileError listing them.
     """
-    curves = read_flow_curves(
-        path, shear_rate_column=shear_rate_column, viscosity_column=viscosity_column,
-        stress_column=stress_column, temperature_column=temperature_column,
-        shear_rate_unit=shear_rate_unit, viscosity_unit=viscosity_unit, stress_unit=stress_unit,
-        temperature_unit=temperature_unit, name=name,
-    )
+    curves = read_flow_curves(path, **overrides)
     shown = str(path)
     if curve is None:
         if len(curves) == 1:
