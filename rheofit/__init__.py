@@ -4,6 +4,19 @@ The public API is this short list.  Heavy modules (lmfit, pandas, scipy,
 matplotlib) load on first use, so ``import rheofit`` and ``rheofit --help``
 stay fast.
 
+The map (dependencies point down this list, never up; tests/test_layout.py checks it):
+
+- ground floor: ``errors``, ``units``, ``output``, ``progress``, ``curve``
+- ``models/``   ADD A MODEL HERE: declaration, catalogue, closed forms
+- ``fluid``     a model with given parameter values
+- ``ingest/``   ADD AN INPUT FORMAT HERE: text exports -> FlowCurve
+- ``fitting/``  problem, intervals, statistics, result, parameter draws, saved fits
+- ``flow/``     ADD A GEOMETRY HERE: geometry protocol, engine, regime, predict, prediction intervals
+- ``lots``      lots side by side
+- ``report/``   renderers only: display units, console, text, HTML, figures
+- ``jobs/``     orchestration: the analysis behind a report, the demo
+- ``cli/``      ADD A COMMAND HERE: one module per command, shared options
+
 >>> import rheofit
 >>> blood_like = rheofit.fluid("casson", tau_y=0.005, mu_c=0.0035)
 >>> round(float(blood_like.viscosity(100.0)) * 1e3, 2)   # mPa*s
@@ -27,9 +40,9 @@ _EXPORTS = {
     "read_flow_curves": "rheofit.ingest",
     "MODELS": "rheofit.models",
     "get_model": "rheofit.models",
-    "fit": "rheofit.fitting",
-    "fit_all": "rheofit.fitting",
-    "FitResult": "rheofit.fitting",
+    "fit": "rheofit.fitting.solve",
+    "fit_all": "rheofit.fitting.solve",
+    "FitResult": "rheofit.fitting.result",
     "Tube": "rheofit.flow",
     "Slit": "rheofit.flow",
     "predict": "rheofit.flow",

@@ -2,7 +2,7 @@
 
 :func:`compare` fits one model to every lot (the best by summed AICc over
 the lots unless one is given), predicts each lot at one operating point in a
-Tube or Slit (with 95 % intervals, :mod:`rheofit.uncertainty`), and judges
+Tube or Slit (with 95 % intervals, :mod:`rheofit.flow.intervals`), and judges
 each lot against a reference lot by two criteria:
 
 * operating point: ``deviation`` = (y_lot - y_ref) / y_ref of the pressure
@@ -288,13 +288,13 @@ def _operating(geometry, flow_rate, pressure_drop) -> tuple[object, dict]:
             )
         return None, {}
     from rheofit.flow.geometry import check_geometry
-    from rheofit.flow.predict import _exactly_one, _operating_input
+    from rheofit.flow.predict import require_one_operating_point, operating_input
 
     geometry = check_geometry(geometry)
-    _exactly_one(flow_rate, pressure_drop)
+    require_one_operating_point(flow_rate, pressure_drop)
     given = "flow_rate" if flow_rate is not None else "pressure_drop"
     raw = flow_rate if flow_rate is not None else pressure_drop
-    values = _operating_input(raw, "flow_rate" if given == "flow_rate" else "pressure")
+    values = operating_input(raw, "flow_rate" if given == "flow_rate" else "pressure")
     if values.size != 1:
         raise GeometryError(
             f"A comparison is made at one operating point; got {values.size} values of "
@@ -404,7 +404,7 @@ def same_curve_test(curves, fits) -> dict:
 
 def _restarted_rss(pooled, model, fits) -> list[float]:
     """RSS of the pooled problem refitted from each lot's estimate (guards a local optimum)."""
-    from rheofit.fitproblem import LogStressProblem
+    from rheofit.fitting.problem import LogStressProblem
 
     problem = LogStressProblem(model, pooled.shear_rate, pooled.stress)
     found = []

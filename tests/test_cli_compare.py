@@ -14,7 +14,7 @@ import pytest
 import typer
 from typer.testing import CliRunner
 
-from rheofit.cli_compare import compare_command, parse_tolerance
+from rheofit.cli.compare import compare_command, parse_tolerance
 from rheofit.errors import ParameterError
 from rheofit.flow.predict import SAFETY_CAUTION
 

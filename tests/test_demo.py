@@ -7,7 +7,7 @@ import json
 import pytest
 from typer.testing import CliRunner
 
-import rheofit.demo as demo
+import rheofit.jobs.demo as demo
 from rheofit.cli import app
 from rheofit.errors import OutputExistsError
 

@@ -23,12 +23,12 @@ import pytest
 from typer.testing import CliRunner
 
 import rheofit
-from rheofit import cli
+from rheofit.cli import fit as fit_cli
 from rheofit.cli import app
 from rheofit.curve import FlowCurve
 from rheofit.errors import GeometryError, InputFileError, ModelNameError, ParameterError
 from rheofit.models import MODELS
-from rheofit.saved import load_fit
+from rheofit.fitting.saved import load_fit
 
 runner = CliRunner()
 
@@ -85,7 +85,7 @@ def test_unknown_top_level_name_is_an_attribute_error():
     assert rheofit.fit is not None  # a listed name still resolves lazily
 
 
-# --- rheofit/cli.py:44-46: unreadable paths become one line ----------------------------------
+# --- rheofit/cli/common.py: unreadable paths become one line ----------------------------------
 
 @pytest.mark.parametrize("error, words", [
     (PermissionError(13, "Permission denied", "locked.csv"), "cannot use 'locked.csv': Permission denied."),
@@ -95,7 +95,7 @@ def test_unreadable_path_ends_in_one_sentence(tmp_path, monkeypatch, error, word
     def refuse(*args, **kwargs):
         raise error
 
-    monkeypatch.setattr(cli, "fit_files", refuse)
+    monkeypatch.setattr(fit_cli, "fit_files", refuse)
     assert error_sentence(run("fit", write(tmp_path, "s.csv", TINY))) == words
 
 
@@ -230,7 +230,7 @@ def test_report_on_a_saved_fit(saved_fit, tmp_path):
 
 # --- defects found by the audit, fixed: these keep them fixed --------------------------------------
 def test_demo_out_pointing_at_a_regular_file(tmp_path, monkeypatch):
-    from rheofit import demo
+    from rheofit.jobs import demo
 
     monkeypatch.setattr(demo, "analyse_demo", lambda steps=None: types.SimpleNamespace(samples=()))
     target = write(tmp_path, "not_a_folder", "keep me\n")

@@ -11,11 +11,11 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from rheofit import intervals
+from rheofit.fitting import intervals
 from rheofit.curve import Flag, FlowCurve
 from rheofit.errors import FitError, ModelNameError, ParameterError
-from rheofit.fitresult import FitResult
-from rheofit.fitstats import (information_criteria, profile_threshold,
+from rheofit.fitting.result import FitResult
+from rheofit.fitting.statistics import (information_criteria, profile_threshold,
                               runs_probability_at_most, runs_test)
 from rheofit.fitting import fit, fit_all
 from rheofit.models import MODELS, Parameter, ViscosityModel

@@ -17,9 +17,9 @@ from rheofit.fitting import fit_all
 from rheofit.flow import Slit, Tube, predict
 from rheofit.fluid import fluid
 from rheofit.ingest import read_flow_curve
-from rheofit.report import plots
+from rheofit.report import display, plots
 from rheofit.report.figures_fit import measured_points
-from rheofit.uncertainty import viscosity_band
+from rheofit.fitting.draws import viscosity_band
 
 TUBE = Tube("0.8 mm", "30 cm")
 SLIT = Slit("200 um", "8 mm", "2 cm")
@@ -126,15 +126,15 @@ def test_decade_labels_are_plain_numbers(value, text):
 
 
 def test_display_scale_follows_the_console_units():
-    assert plots.display_scale("pressure", [2200.0]) == (1e-3, "kPa")
-    assert plots.display_scale("pressure", [300.0]) == (1.0, "Pa")
-    assert plots.display_scale("flow_rate", [50 * UL_PER_MIN]) == (60e9, "µL/min")
-    assert plots.display_scale("velocity", [0.002]) == (1e3, "mm/s")
-    assert plots.length_scale(100e-6) == (1e6, "µm")
+    assert display.display_scale("pressure", [2200.0]) == (1e-3, "kPa")
+    assert display.display_scale("pressure", [300.0]) == (1.0, "Pa")
+    assert display.display_scale("flow_rate", [50 * UL_PER_MIN]) == (60e9, "µL/min")
+    assert display.display_scale("velocity", [0.002]) == (1e3, "mm/s")
+    assert display.length_scale(100e-6) == (1e6, "µm")
 
 
 def test_matplotlib_is_not_imported_with_rheofit():
-    code = ("import sys, rheofit, rheofit.cli, rheofit.cli_report, rheofit.demo, rheofit.report.html, "
+    code = ("import sys, rheofit, rheofit.cli, rheofit.cli.report, rheofit.jobs.demo, rheofit.report.html, "
             "rheofit.report.plots; print('matplotlib' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "False"
@@ -309,7 +309,7 @@ def test_operating_curve_of_a_newtonian_fluid_is_hagen_poiseuille():
     q = np.asarray(model.get_xdata()) * UL_PER_MIN
     # Source: Hagen-Poiseuille, dP = 8 mu L Q / (pi R^4) (Bird, Stewart & Lightfoot 2002, eq. 2.3-21)
     expected = 8 * mu * TUBE.length * q / (math.pi * TUBE.radius**4)
-    factor, unit = plots.display_scale("pressure", expected)
+    factor, unit = display.display_scale("pressure", expected)
     np.testing.assert_allclose(np.asarray(model.get_ydata()) / factor, expected, rtol=1e-8, atol=1e-12)
     assert not _labelled(axes, "95 % band")   # a fluid with given parameters has no uncertainty
 

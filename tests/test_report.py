@@ -17,8 +17,8 @@ from rheofit.curve import FlowCurve
 from rheofit.errors import FitError, GeometryError, OutputExistsError
 from rheofit.flow import SAFETY_CAUTION, Tube
 from rheofit.ingest import read_flow_curve
-from rheofit.report.analysis import OperatingCase, analyse, compare_samples, fit_curve
-from rheofit.report.console import number
+from rheofit.jobs.analysis import OperatingCase, analyse, compare_samples, fit_curve
+from rheofit.report.display import number
 from rheofit.report.figureset import figure_plan
 from rheofit.report.html import build_report, report_files, write_report
 

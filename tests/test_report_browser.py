@@ -15,7 +15,7 @@ import pytest
 
 from rheofit.flow import SAFETY_CAUTION, Tube
 from rheofit.ingest import read_flow_curve
-from rheofit.report.analysis import OperatingCase, analyse
+from rheofit.jobs.analysis import OperatingCase, analyse
 from rheofit.report.html import write_report
 
 BROWSER = shutil.which("chromium") or shutil.which("chromium-browser")

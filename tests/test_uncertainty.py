@@ -14,11 +14,12 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from rheofit import uncertainty
+from rheofit.fitting import draws as uncertainty
+from rheofit.flow import intervals as flow_intervals
 from rheofit.curve import FlowCurve
 from rheofit.errors import GeometryError, ParameterError
 from rheofit.fitting import fit
-from rheofit.fitresult import FitResult
+from rheofit.fitting.result import FitResult
 from rheofit.fluid import fluid
 from rheofit.flow import Slit, Tube, engine, predict
 from rheofit.models import MODELS
@@ -224,7 +225,7 @@ def test_viscosity_band_brackets_the_fit_and_narrows_where_the_data_are(carreau_
 
 def test_operating_band_matches_the_prediction_interval(carreau_fit):
     q = np.geomspace(1e-10, 1e-7, 5)
-    low, high = uncertainty.operating_band(carreau_fit, TUBE, q)
+    low, high = flow_intervals.operating_band(carreau_fit, TUBE, q)
     p = predict(carreau_fit, TUBE, flow_rate=q)
     assert np.allclose(low, p.pressure_drop_ci95[0], rtol=1e-9)
     assert np.allclose(high, p.pressure_drop_ci95[1], rtol=1e-9)
@@ -284,7 +285,7 @@ def test_interval_resting_on_a_range_limit_is_flagged(plateau_only):
 
 
 def test_failed_draws_are_left_out_and_flagged(carreau_fit, monkeypatch):
-    solve = uncertainty._solve
+    solve = flow_intervals._solve
     calls = {"n": 0}
 
     def sometimes_fails(fluid_, geometry, given, values, method):
@@ -293,7 +294,7 @@ def test_failed_draws_are_left_out_and_flagged(carreau_fit, monkeypatch):
             raise GeometryError("beyond this fluid's flow curve")
         return solve(fluid_, geometry, given, values, method)
 
-    monkeypatch.setattr(uncertainty, "_solve", sometimes_fails)
+    monkeypatch.setattr(flow_intervals, "_solve", sometimes_fails)
     p = predict(carreau_fit, TUBE, flow_rate=1e-8)
     (flag,) = [f for f in p.flags if f.code == "interval_unreliable"]
     assert flag.data["failed_draws"] == 40 and "40 of 400" in flag.message
@@ -329,7 +330,7 @@ def test_bands_need_a_fit():
     with pytest.raises(ParameterError, match="needs a fit result"):
         uncertainty.viscosity_band(water, [1.0, 10.0])
     with pytest.raises(ParameterError, match="needs a fit result"):
-        uncertainty.operating_band(water, TUBE, [1e-9])
+        flow_intervals.operating_band(water, TUBE, [1e-9])
     with pytest.raises(ParameterError, match="needs a fit result"):
         uncertainty.parameter_draws(water)
 
@@ -348,6 +349,6 @@ def test_bad_shear_rate(carreau_fit, rate):
 
 def test_operating_band_checks_its_inputs(carreau_fit):
     with pytest.raises(GeometryError, match="non-negative, finite"):
-        uncertainty.operating_band(carreau_fit, TUBE, [1e-9, -1e-9])
+        flow_intervals.operating_band(carreau_fit, TUBE, [1e-9, -1e-9])
     with pytest.raises(GeometryError):
-        uncertainty.operating_band(carreau_fit, "a tube", [1e-9])
+        flow_intervals.operating_band(carreau_fit, "a tube", [1e-9])

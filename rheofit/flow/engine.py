@@ -308,7 +308,7 @@ def _q(rheology, geometry, closed, g, tau_w):
     return flow_integral(rheology, g, tau_w, geometry.stress_power)
 
 
-def _operating_values(values, name: str) -> np.ndarray:
+def operating_values(values, name: str) -> np.ndarray:
     """Operating points as a 1-D float array; non-negative and finite."""
     arr = np.atleast_1d(np.asarray(values, dtype=float)).ravel()
     bad = ~(np.isfinite(arr) & (arr >= 0.0))
@@ -344,7 +344,7 @@ def solve_pressure_drop(fluid, geometry, pressure_drop, method: str = "auto") ->
     """
     fluid, geometry, method = as_fluid(fluid), check_geometry(geometry), _method(method)
     rheology = Rheology(fluid)
-    dp = _operating_values(pressure_drop, "pressure drop")
+    dp = operating_values(pressure_drop, "pressure drop")
     tau_w = geometry.wall_shear_stress(dp)
     g = rheology.shear_rate(tau_w)
     flowing = g > 0
@@ -367,7 +367,7 @@ def solve_flow_rate(fluid, geometry, flow_rate, method: str = "auto") -> FlowSta
     """
     fluid, geometry, method = as_fluid(fluid), check_geometry(geometry), _method(method)
     rheology = Rheology(fluid)
-    q = _operating_values(flow_rate, "flow rate")
+    q = operating_values(flow_rate, "flow rate")
     k = geometry.stress_power
     flowing = q > 0
     g = np.zeros(q.shape)
@@ -440,7 +440,7 @@ def pressure_drop(fluid, geometry, flow_rate, method: str = "auto"):
 def wall_shear_rate(fluid, wall_shear_stress):
     """Wall shear rate gd_w [1/s] with tau(gd_w) = tau_w [Pa]; 0 at or below a yield stress."""
     stress = np.asarray(wall_shear_stress, dtype=float)
-    flat = _operating_values(stress, "wall shear stress")
+    flat = operating_values(stress, "wall shear stress")
     return _shaped(Rheology(as_fluid(fluid)).shear_rate(flat), stress)
 
 
@@ -453,7 +453,7 @@ def velocity_profile(fluid, geometry, wall_shear_stress, position):
     [0, R] (slit: [0, h]).
     """
     fluid, geometry = as_fluid(fluid), check_geometry(geometry)
-    tau_w = float(_operating_values(wall_shear_stress, "wall shear stress")[0])
+    tau_w = float(operating_values(wall_shear_stress, "wall shear stress")[0])
     r = np.asarray(position, dtype=float)
     half = geometry.half_size
     if np.any(~np.isfinite(r)) or np.any(r < 0) or np.any(r > half * (1 + 1e-12)):

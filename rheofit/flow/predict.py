@@ -71,7 +71,7 @@ class FlowPrediction:
     ``wall_shear_stress_ci95`` and ``wall_shear_rate_ci95``: each a 95 %
     interval (low, high), floats or arrays shaped like the input;
     ``uncertainty_method`` (text) and ``uncertainty_samples`` (Monte Carlo
-    draws), see :mod:`rheofit.uncertainty`.
+    draws), see :mod:`rheofit.flow.intervals`.
     """
 
     geometry: object
@@ -253,7 +253,7 @@ def _profile_frame(fluid: Fluid, geometry, wall_shear_stress: float, points: int
 
 # --- input checks -------------------------------------------------------------
 
-def _operating_input(value, kind: str):
+def operating_input(value, kind: str):
     """Number, array or text with a unit -> float array (shape kept)."""
     if isinstance(value, str):
         value = parse_quantity(value, kind)
@@ -280,7 +280,7 @@ def _positive(value, name: str, kind: str, example: str) -> float:
     return number
 
 
-def _exactly_one(flow_rate, pressure_drop):
+def require_one_operating_point(flow_rate, pressure_drop):
     if (flow_rate is None) == (pressure_drop is None):
         given = "both" if flow_rate is not None else "neither"
         raise GeometryError(
@@ -404,7 +404,7 @@ def predict(fluid_or_fit, geometry, flow_rate=None, pressure_drop=None, density=
     uncertainty : bool
         For a fit result, carry the fit's parameter uncertainty into 95 %
         intervals of the pressure drop (or flow rate) and the wall shear
-        stress and rate (:mod:`rheofit.uncertainty`); ignored for a fluid
+        stress and rate (:mod:`rheofit.flow.intervals`); ignored for a fluid
         with given parameters, which has none.
     samples : int
         Monte Carlo draws of the parameters (at least 40).
@@ -419,17 +419,17 @@ def predict(fluid_or_fit, geometry, flow_rate=None, pressure_drop=None, density=
     """
     fluid = as_fluid(fluid_or_fit)
     geometry = check_geometry(geometry)
-    _exactly_one(flow_rate, pressure_drop)
+    require_one_operating_point(flow_rate, pressure_drop)
     is_default = density is None
     density = DEFAULT_DENSITY if is_default else _positive(density, "density", "density", "'1050 kg/m^3'")
     tolerance = _positive(tolerance, "tolerance", "dimensionless", "0.10")
     if not (isinstance(profile_points, (int, np.integer)) and profile_points >= 2):
         raise ParameterError(f"profile_points = {profile_points!r} must be an integer of at least 2, e.g. 101.")
     if flow_rate is not None:
-        given = _operating_input(flow_rate, "flow_rate")
+        given = operating_input(flow_rate, "flow_rate")
         state = engine.solve_flow_rate(fluid, geometry, given, method)
     else:
-        given = _operating_input(pressure_drop, "pressure")
+        given = operating_input(pressure_drop, "pressure")
         state = engine.solve_pressure_drop(fluid, geometry, given, method)
     intervals = _intervals(fluid_or_fit, geometry, state, flow_rate is not None, method,
                            uncertainty, samples, seed)
@@ -444,13 +444,14 @@ def _intervals(source, geometry, state, flow_rate_given: bool, method, uncertain
         raise ParameterError(f"uncertainty = {uncertainty!r} must be True or False.")
     if isinstance(seed, bool) or not (seed is None or isinstance(seed, (int, np.integer))):
         raise ParameterError(f"seed = {seed!r} must be a whole number or None, e.g. 0.")
-    from rheofit import uncertainty as propagation  # loads scipy: only when asked
+    from rheofit.fitting import draws  # loads scipy: only when asked
+    from rheofit.flow import intervals
 
-    samples = propagation.check_samples(samples)
-    if not uncertainty or not propagation.is_fit(source):
+    samples = draws.check_samples(samples)
+    if not uncertainty or not draws.is_fit(source):
         return None
     given = {"flow_rate": state.flow_rate} if flow_rate_given else {"pressure_drop": state.pressure_drop}
-    return propagation.flow_intervals(source, geometry, **given, samples=samples, seed=seed, method=method)
+    return intervals.flow_intervals(source, geometry, **given, samples=samples, seed=seed, method=method)
 
 
 def _with_intervals(prediction: FlowPrediction, intervals, shape) -> FlowPrediction:

@@ -9,13 +9,7 @@ from rich.table import Table
 from rich.text import Text
 
 from rheofit.models import MODELS
-
-
-def number(x, digits: int = 4) -> str:
-    """Compact number: 4 significant digits, '—' for missing."""
-    if x is None or (isinstance(x, float) and math.isnan(x)):
-        return "—"
-    return f"{x:.{digits}g}"
+from rheofit.report.display import number, shown
 
 
 def interval(ci) -> str:
@@ -124,24 +118,6 @@ def summary_table(groups) -> Table:
 
 
 # --- flow predictions -------------------------------------------------------
-
-#: display units chosen by magnitude: (SI threshold, factor, label)
-_DISPLAY = {
-    "pressure": [(1e6, 1e-6, "MPa"), (1e3, 1e-3, "kPa"), (0.0, 1.0, "Pa")],
-    "flow_rate": [(1e-6 / 60, 60e6, "mL/min"), (0.0, 60e9, "µL/min")],
-    "velocity": [(1.0, 1.0, "m/s"), (0.0, 1e3, "mm/s")],
-}
-
-
-def shown(value, kind: str) -> str:
-    """An SI value in the unit a practitioner reads most easily."""
-    if value is None or not math.isfinite(float(value)):
-        return "—"
-    for threshold, factor, label in _DISPLAY[kind]:
-        if abs(value) >= threshold:
-            return f"{value * factor:.4g} {label}"
-    return f"{value:.4g}"
-
 
 def _prediction_rows(p):
     rows = [

@@ -10,7 +10,7 @@ from rheofit.report.plots import (
     EXTRAPOLATED, INK, RANGE_FILL, SHEAR_RATE_LABEL, VISCOSITY_LABEL, legend_below, log_axes,
     new_figure, plain, series_style, styled,
 )
-from rheofit.uncertainty import viscosity_band
+from rheofit.fitting.draws import viscosity_band
 
 #: how far past an outside operating point the chosen model is drawn [-]
 _MARGIN = 1.6

@@ -8,9 +8,9 @@ import numpy as np
 
 from rheofit.flow import engine
 from rheofit.fluid import fluid as make_fluid
+from rheofit.report.display import display_scale, length_scale
 from rheofit.report.plots import (
-    INK, MUTED, PLUG_FILL, display_scale, legend_below, length_scale, new_figure, plain,
-    series_style, styled,
+    INK, MUTED, PLUG_FILL, legend_below, new_figure, plain, series_style, styled,
 )
 
 #: points of the drawn pressure-flow curve
@@ -140,10 +140,10 @@ def operating_curve(prediction, points: int = _CURVE_POINTS):
 
 
 def operating_band(fit, geometry, flow_rate):
-    """95 % band (low, high) [Pa] of dP(Q) (:func:`rheofit.uncertainty.operating_band`), None without a fit."""
+    """95 % band (low, high) [Pa] of dP(Q) (:func:`rheofit.flow.intervals.operating_band`), None without a fit."""
     if fit is None:
         return None
-    from rheofit.uncertainty import operating_band as band
+    from rheofit.flow.intervals import operating_band as band
 
     return band(fit, geometry, flow_rate)
 
@@ -205,7 +205,7 @@ def operating_curve_figure(prediction, fit=None, *, label: str | None = None):
     Draws the model's dP(Q) by the flow engine, the Newtonian line with the
     reference viscosity of the prediction (and with the zero-shear viscosity
     when the model has one), the 95 % band when ``fit`` is given
-    (:mod:`rheofit.uncertainty`), the threshold pressure drop of
+    (:mod:`rheofit.flow.intervals`), the threshold pressure drop of
     a yield-stress fluid, and the operating point(s).  Units: µL/min or
     mL/min and Pa, kPa or MPa, as the console shows them.
     """

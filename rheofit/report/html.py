@@ -13,7 +13,7 @@ method and its assumptions; the safety caution.
 
 Python use::
 
-    from rheofit.report.analysis import analyse
+    from rheofit.jobs.analysis import analyse
     from rheofit.report.html import build_report, write_report
     text = build_report(analyse(curves))          # str
     write_report("report.html", analyse(curves), figures_dir="figures")
@@ -27,7 +27,7 @@ from rheofit.report.html_parts import Raw, bullets, esc, figure, join, page, tag
 from rheofit.report.html_sections import (
     comparison_section, contents, method_section, sample_section, summary_section,
 )
-from rheofit.report.progress import Steps, quiet
+from rheofit.progress import Steps, quiet
 
 __all__ = ["build_report", "write_report", "report_files"]
 
@@ -68,7 +68,7 @@ def _header(analysis) -> Raw:
 
 
 def build_report(analysis, *, steps: Steps | None = None, keep=None) -> str:
-    """The report of an :class:`~rheofit.report.analysis.Analysis` as one HTML document (str).
+    """The report of an :class:`~rheofit.jobs.analysis.Analysis` as one HTML document (str).
 
     ``keep(key, figure, svg)`` is called with each figure (and its SVG text)
     before it is closed; :func:`write_report` uses it to save the figures.

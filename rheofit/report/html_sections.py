@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 
-from rheofit.report.console import number, shown
+from rheofit.report.display import number, shown
 from rheofit.report.html_parts import Raw, bullets, esc, join, key_values, percent, table, tag
 
 _GAP = Raw("\n")

@@ -166,31 +166,6 @@ def log_axes(axes, x: bool = True, y: bool = True) -> None:
 
 # --- display units ----------------------------------------------------------------
 
-def display_scale(kind: str, values) -> tuple[float, str]:
-    """(factor, unit) that shows SI ``values`` of ``kind`` in a practical unit.
-
-    Kinds and units follow the console's :func:`rheofit.report.console.shown`
-    (pressure: Pa, kPa, MPa; flow_rate: µL/min, mL/min; velocity: mm/s, m/s),
-    chosen by the largest magnitude so that one axis has one unit.
-    """
-    from rheofit.report.console import _DISPLAY
-
-    finite = [abs(float(v)) for v in _flat(values) if math.isfinite(float(v))]
-    largest = max(finite, default=0.0)
-    for threshold, factor, label in _DISPLAY[kind]:
-        if largest >= threshold:
-            return factor, label
-    _, factor, label = _DISPLAY[kind][-1]
-    return factor, label
-
-
-def length_scale(metres: float) -> tuple[float, str]:
-    """(factor, unit) for a length: µm below 1 mm, mm below 1 m, else m."""
-    if metres < 1e-3:
-        return 1e6, "µm"
-    return (1e3, "mm") if metres < 1.0 else (1.0, "m")
-
-
 def _flat(values):
     import numpy as np
 
@@ -268,7 +243,7 @@ _FIGURES = {
 }
 
 __all__ = [*_FIGURES, "SERIES", "LINESTYLES", "MARKERS", "series_style", "svg_text", "png_bytes",
-           "save_figure", "display_scale", "length_scale", "decade_label", "log_axes"]
+           "save_figure", "decade_label", "log_axes"]
 
 
 def __getattr__(name: str):

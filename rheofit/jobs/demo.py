@@ -24,7 +24,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
-from rheofit.report.progress import Steps, quiet
+from rheofit.progress import Steps, quiet
 
 #: said wherever the demo's results appear
 NOTICE = ("The data in this demo are INVENTED (bundled sample sweeps written with a fixed random "
@@ -50,7 +50,7 @@ class DemoResult:
 def demo_cases() -> dict[str, tuple]:
     """The operating cases per sample (geometries and operating points of the scenario)."""
     from rheofit.flow import Slit, Tube
-    from rheofit.report.analysis import OperatingCase
+    from rheofit.jobs.analysis import OperatingCase
     from rheofit.units import parse_quantity
 
     tube = Tube("0.8 mm", "30 cm")
@@ -101,8 +101,8 @@ def _refuse(out: Path) -> None:
 
 
 def analyse_demo(steps: Steps | None = None):
-    """The demo's :class:`~rheofit.report.analysis.Analysis` (fits, flow cases, lot comparison)."""
-    from rheofit.report.analysis import Analysis, analyse_sample, compare_samples
+    """The demo's :class:`~rheofit.jobs.analysis.Analysis` (fits, flow cases, lot comparison)."""
+    from rheofit.jobs.analysis import Analysis, analyse_sample, compare_samples
 
     steps = quiet(steps)
     curves, cases = sample_curves(), demo_cases()
@@ -128,7 +128,7 @@ def run_demo(out=DEFAULT_OUT, *, force: bool = False, steps: Steps | None = None
 
     from rheofit.output import write_atomic
     from rheofit.report.html import write_report
-    from rheofit.saved import fits_document
+    from rheofit.fitting.saved import fits_document
 
     out = Path(out)
     if not force:
@@ -151,7 +151,7 @@ def _case_text(result) -> str:
     """The solved quantity (pressure drop or flow rate), then any flag worth a word."""
     import numpy as np
 
-    from rheofit.report.console import shown
+    from rheofit.report.display import shown
 
     p = result.prediction
     if not bool(np.ravel(p.flowing)[0]):

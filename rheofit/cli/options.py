@@ -1,4 +1,4 @@
-"""Command-line options shared by the commands that take a channel and an operating point."""
+"""Command-line options shared by several commands (declared once)."""
 
 from __future__ import annotations
 
@@ -11,3 +11,5 @@ LENGTH = typer.Option(None, "--length", "-l", help="Channel length, e.g. '30 cm'
 FLOW_RATE = typer.Option(None, "--flow-rate", "-q", help="Volumetric flow rate, e.g. '50 uL/min' or '1.2 mL/h'.")
 PRESSURE_DROP = typer.Option(None, "--pressure-drop", "-p", help="Pressure drop over the length, e.g. '25 kPa'.")
 DENSITY = typer.Option(None, "--density", help="Fluid density, e.g. '1.05 g/mL' (for the Reynolds number; default 1000 kg/m^3).")
+COLUMN = typer.Option(None, "--column", help="Which column holds a quantity, as ROLE=NAME (e.g. 'viscosity=Eta app'); repeatable.")
+UNIT = typer.Option(None, "--unit", help="The unit of a column, as ROLE=UNIT (e.g. 'viscosity=mPa*s'); repeatable. Roles: shear_rate, viscosity, stress, temperature.")

@@ -83,7 +83,7 @@ def load_fit(path, model: str | None = None, curve=None):
     ``curve`` picks a curve of a file holding several: its number counted
     from 1, or its name.
     """
-    from rheofit.fitting import FitResult
+    from rheofit.fitting.result import FitResult
 
     path = Path(path)
     entry = _pick_curve(path, _document(path).get("curves") or [], curve)

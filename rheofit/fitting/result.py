@@ -19,7 +19,7 @@ import numpy as np
 
 from rheofit.curve import Flag
 from rheofit.errors import FitError
-from rheofit.fitreport import text_report
+from rheofit.fitting.text import text_report
 from rheofit.fluid import Fluid
 from rheofit.models import ViscosityModel, get_model
 
@@ -140,7 +140,7 @@ class FitResult:
     deviation of about 2 %); ``r_squared_log`` is 1 - RSS / SS of ln(stress)
     about its mean - flattering, since stress grows with shear rate whatever
     the model: rank models by ``aicc`` instead.  ``aic``, ``aicc`` and ``bic``
-    follow :func:`rheofit.fitstats.information_criteria`.
+    follow :func:`rheofit.fitting.statistics.information_criteria`.
     """
 
     model: str

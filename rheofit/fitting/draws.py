@@ -4,7 +4,7 @@ Method (propagation of distributions by Monte Carlo)
 ----------------------------------------------------
 1. Draws.  The fitted parameters are drawn in the fit's internal
    parametrisation (logarithms of positive-scale parameters, see
-   :mod:`rheofit.fitproblem`) from a multivariate Student t distribution
+   :mod:`rheofit.fitting.problem`) from a multivariate Student t distribution
    centred on the estimate, with scale matrix the covariance
    s^2 (J^T J)^-1 of the log-space least squares and N - k degrees of
    freedom (the residual variance is estimated from the same N points):
@@ -60,13 +60,13 @@ import numpy as np
 
 from rheofit.curve import Flag
 from rheofit.errors import ParameterError, RheofitError
-from rheofit.fitproblem import LogStressProblem, Parametrisation
-from rheofit.fitstats import floored_rss, profile_threshold
+from rheofit.fitting.problem import LogStressProblem, Parametrisation
+from rheofit.fitting.statistics import floored_rss, profile_threshold
 from rheofit.fluid import Fluid
 
 __all__ = [
-    "ParameterDraws", "FlowIntervals", "parameter_draws", "flow_intervals",
-    "viscosity_band", "operating_band", "LEVEL", "DEFAULT_SAMPLES", "DEFAULT_SEED",
+    "ParameterDraws", "parameter_draws", "viscosity_band", "interval_from", "unreliable_paths",
+    "LEVEL", "DEFAULT_SAMPLES", "DEFAULT_SEED",
 ]
 
 #: confidence level of every interval a prediction carries
@@ -90,8 +90,6 @@ STILL_MOVING = 0.01
 FAILED_SHARE = 0.005
 #: redraws of out-of-bounds draws before the rest are clipped to the bounds
 _REDRAWS = 50
-
-_QUANTITIES = ("pressure_drop", "flow_rate", "wall_shear_stress", "wall_shear_rate")
 
 
 # --- parameter draws ------------------------------------------------------------------
@@ -159,7 +157,7 @@ def is_fit(obj) -> bool:
     return hasattr(obj, "covariance") and hasattr(obj, "params") and hasattr(obj, "declaration")
 
 
-def _require_fit(obj, what: str) -> None:
+def require_fit(obj, what: str) -> None:
     if not is_fit(obj):
         raise ParameterError(
             f"{what} needs a fit result (from rheofit.fit or rheofit.fit_all), got "
@@ -177,7 +175,7 @@ def check_samples(samples) -> int:
     return int(samples)
 
 
-def _check_level(level) -> float:
+def check_level(level) -> float:
     try:
         value = float(level)
     except (TypeError, ValueError):
@@ -327,7 +325,7 @@ def parameter_draws(fit, samples: int = DEFAULT_SAMPLES, seed: int | None = DEFA
 
     Raises ParameterError when ``fit`` is not a fit result or ``samples`` is too small.
     """
-    _require_fit(fit, "An uncertainty estimate")
+    require_fit(fit, "An uncertainty estimate")
     samples = check_samples(samples)
     names = tuple(fit.covariance.names)
     center = np.asarray(fit.covariance.center, dtype=float)
@@ -404,119 +402,6 @@ def unreliable_paths(draws: ParameterDraws, central, ridge_values, what: str) ->
     return tuple(flags)
 
 
-# --- flow ----------------------------------------------------------------------------
-
-@dataclass(frozen=True)
-class FlowIntervals:
-    """95 % intervals of a flow prediction (1-D arrays over operating points, SI).
-
-    ``given`` is "flow_rate" or "pressure_drop"; ``intervals`` maps
-    pressure_drop / flow_rate (the solved one), wall_shear_stress and
-    wall_shear_rate to (low, high) arrays.  ``method`` names the method,
-    ``samples`` the number of Monte Carlo draws.
-    """
-
-    given: str
-    intervals: dict
-    method: str
-    samples: int
-    flags: tuple[Flag, ...]
-
-
-def _solve(fluid, geometry, given, values, method):
-    from rheofit.flow import engine
-
-    solver = engine.solve_flow_rate if given == "flow_rate" else engine.solve_pressure_drop
-    return solver(fluid, geometry, values, method)
-
-
-def _evaluate(draws: ParameterDraws, rows, geometry, given, values, method):
-    """Solved quantities for every parameter row: {name: (R, M)} and a failed mask."""
-    rows = np.atleast_2d(rows)
-    out = {name: np.full((rows.shape[0], values.size), np.nan) for name in _QUANTITIES}
-    failed = np.zeros(rows.shape[0], dtype=bool)
-    for i, fluid in enumerate(draws.fluids(rows) if rows.shape[0] else ()):
-        try:
-            state = _solve(fluid, geometry, given, values, method)
-        except RheofitError:  # e.g. a draw whose flow curve cannot carry the wall stress
-            failed[i] = True
-            continue
-        solved = np.stack([getattr(state, name) for name in _QUANTITIES])
-        if not np.all(np.isfinite(solved) & (solved >= 0)):
-            # a flow curve that falls again at high shear has no laminar solution there
-            failed[i] = True
-            continue
-        for name in _QUANTITIES:
-            out[name][i] = getattr(state, name)
-    return out, failed
-
-
-def _failed_flag(failed, samples) -> tuple[Flag, ...]:
-    count = int(failed.sum())
-    if count <= FAILED_SHARE * samples:
-        return ()
-    return (Flag(
-        "interval_unreliable",
-        f"{count} of {samples} parameter draws gave no laminar solution at this operating point "
-        "(their flow curve cannot carry the wall shear stress); the interval leaves them out and "
-        "understates the uncertainty.",
-        {"failed_draws": count, "samples": samples},
-    ),)
-
-
-def flow_intervals(fit, geometry, flow_rate=None, pressure_drop=None, *,
-                   samples: int = DEFAULT_SAMPLES, seed: int | None = DEFAULT_SEED,
-                   method: str = "auto", level: float = LEVEL, draws: ParameterDraws | None = None
-                   ) -> FlowIntervals:
-    """Intervals of the solved quantity and the wall shear stress and rate.
-
-    Give ``flow_rate`` [m^3/s] or ``pressure_drop`` [Pa] (1-D float arrays,
-    already checked by the caller).  The central values are solved again
-    from the estimate; each draw is one vectorised solve over all points.
-    """
-    from rheofit.flow.engine import _operating_values  # the engine's own check of operating points
-
-    _require_fit(fit, "A prediction interval")
-    level = _check_level(level)
-    given = "flow_rate" if flow_rate is not None else "pressure_drop"
-    solved = "pressure_drop" if given == "flow_rate" else "flow_rate"
-    values = _operating_values(flow_rate if flow_rate is not None else pressure_drop,
-                               given.replace("_", " "))
-    draws = draws if draws is not None else parameter_draws(fit, samples, seed)
-    central = _solve(fit.fluid, geometry, given, values, method)
-    mc, failed = _evaluate(draws, draws.draws, geometry, given, values, method)
-    ridge, ridge_failed = _evaluate(draws, draws.ridge, geometry, given, values, method)
-    ok = ~failed
-    intervals, flags = {}, list(draws.flags) + list(_failed_flag(failed, draws.samples))
-    for name in (solved, "wall_shear_stress", "wall_shear_rate"):
-        centre = getattr(central, name)
-        if ok.any():
-            intervals[name] = interval_from(centre, mc[name][ok], ridge[name][~ridge_failed], level)
-        else:
-            intervals[name] = (np.full(values.shape, np.nan), np.full(values.shape, np.nan))
-    flags += unreliable_paths(draws, getattr(central, solved), ridge[solved], solved.replace("_", " "))
-    return FlowIntervals(given, intervals, draws.method, draws.samples, tuple(flags))
-
-
-def operating_band(fit, geometry, flow_rate, *, level: float = LEVEL, samples: int = DEFAULT_SAMPLES,
-                   seed: int | None = DEFAULT_SEED) -> tuple[np.ndarray, np.ndarray]:
-    """(low, high) of the pressure drop [Pa] over an array of flow rates [m^3/s].
-
-    The confidence band of the operating curve dP(Q) of a fitted fluid in a
-    Tube or Slit, by the method of this module; arrays shaped like
-    ``flow_rate``.  Raises ParameterError for a fluid without a fit and
-    GeometryError for negative or non-finite flow rates.
-    """
-    from rheofit.flow.geometry import check_geometry
-
-    _require_fit(fit, "operating_band")
-    geometry = check_geometry(geometry)
-    shape = np.shape(flow_rate)
-    result = flow_intervals(fit, geometry, flow_rate=flow_rate, samples=samples, seed=seed, level=level)
-    low, high = result.intervals["pressure_drop"]
-    return low.reshape(shape), high.reshape(shape)
-
-
 # --- viscosity -------------------------------------------------------------------------
 
 def _viscosities(draws: ParameterDraws, rows, rate) -> np.ndarray:
@@ -537,8 +422,8 @@ def viscosity_band(fit, shear_rate, level: float = LEVEL, *, samples: int = BAND
     Raises ParameterError for a fluid without a fit, a level outside (0, 1),
     or a shear rate that is not a positive, finite number.
     """
-    _require_fit(fit, "viscosity_band")
-    level = _check_level(level)
+    require_fit(fit, "viscosity_band")
+    level = check_level(level)
     rate = np.asarray(shear_rate, dtype=float)
     flat = rate.ravel()
     bad = ~(np.isfinite(flat) & (flat > 0))

@@ -14,7 +14,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from rheofit.errors import GeometryError
-from rheofit.report.progress import Steps, quiet
+from rheofit.progress import Steps, quiet
 
 #: default title of a report
 TITLE = "rheofit report"
@@ -49,7 +49,7 @@ class OperatingCase:
 
     def describe(self) -> str:
         """'<geometry> at a flow rate of 50 µL/min' (or 'at a pressure drop of ...')."""
-        from rheofit.report.console import shown
+        from rheofit.report.display import shown
 
         if self.flow_rate is not None:
             return f"{self.geometry.describe()} at a flow rate of {shown(self.flow_rate, 'flow_rate')}"

@@ -6,7 +6,7 @@ RSS_prof(v) outward from the optimum until
 
     RSS_prof(v) / RSS_min = 1 + F(1, N - k; 0.95) / (N - k)
 
-(:func:`rheofit.fitstats.profile_threshold`).  The search works on the
+(:func:`rheofit.fitting.statistics.profile_threshold`).  The search works on the
 signed root z(v) = sqrt(RSS_prof / RSS_min - 1), which is exactly linear in v
 for a model linear in its parameters, so a secant step from the Wald end
 usually lands within a few refits.  Bates & Watts (1988) Nonlinear Regression
@@ -30,7 +30,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from rheofit.fitproblem import LogStressProblem
+from rheofit.fitting.problem import LogStressProblem
 
 PROFILE = "profile likelihood (F threshold)"
 WALD = "covariance (Wald)"

@@ -1,6 +1,6 @@
-"""The ``report`` and ``demo`` commands (registered on :data:`rheofit.cli.app`).
+"""The ``report`` command: one self-contained HTML report.
 
-Thin: parse the options, call :mod:`rheofit.report` and :mod:`rheofit.demo`,
+Thin: parse the options, call :mod:`rheofit.jobs.analysis` and :mod:`rheofit.report.html`,
 print.  Progress goes to stderr, results to stdout.  Heavy libraries load
 inside the commands so that ``rheofit --help`` stays fast.
 """
@@ -12,9 +12,8 @@ from typing import Optional
 
 import typer
 
-from rheofit.cli_options import DENSITY, DIAMETER, FLOW_RATE, GAP, LENGTH, PRESSURE_DROP, WIDTH
-
-from rheofit.cli import user_errors
+from rheofit.cli.common import make_geometry, operating_point, user_errors
+from rheofit.cli.options import DENSITY, DIAMETER, FLOW_RATE, GAP, LENGTH, PRESSURE_DROP, WIDTH
 
 
 def _stdout():
@@ -27,7 +26,7 @@ def _read_curves(files):
     """Every curve of every file (a saved-fit JSON is refused: the report shows the data)."""
     from rheofit.errors import InputFileError
     from rheofit.ingest import read_flow_curves
-    from rheofit.saved import is_saved_fit
+    from rheofit.fitting.saved import is_saved_fit
 
     for path in files:
         if is_saved_fit(path):
@@ -40,9 +39,8 @@ def _read_curves(files):
 
 def _case(diameter, gap, width, length, flow_rate, pressure_drop):
     """The operating case from the flow options, or None when none of them is given."""
-    from rheofit.cli import make_geometry, operating_point
-    from rheofit.report.analysis import OperatingCase
-    from rheofit.report.console import shown
+    from rheofit.jobs.analysis import OperatingCase
+    from rheofit.report.display import shown
 
     if all(v is None for v in (diameter, gap, width, length, flow_rate, pressure_drop)):
         return None
@@ -70,10 +68,10 @@ def report_command(
 ):
     """Write one self-contained HTML report: fits, flags, flow prediction, lot comparison, figures."""
     from rheofit.models import get_model
-    from rheofit.report.analysis import analyse
+    from rheofit.jobs.analysis import analyse
     from rheofit.output import make_folder
     from rheofit.report.html import refuse_existing, write_report
-    from rheofit.report.progress import rich_steps
+    from rheofit.cli.progress import rich_steps
     from rheofit.units import parse_quantity
 
     if not force:
@@ -89,17 +87,3 @@ def report_command(
         path = write_report(out, analysis, figures_dir=figures, force=force, steps=steps)
     where = f"; figures in {figures}" if figures is not None else ""
     _stdout().print(f"Report written to {path} ({len(analysis.samples)} sample(s){where}).", highlight=False)
-
-
-@user_errors
-def demo_command(
-    out: Path = typer.Option(Path("rheofit-demo"), "--out", "-o", help="Folder for the demo's report and saved fits."),
-    force: bool = typer.Option(False, "--force", help="Overwrite an earlier demo's files in that folder."),
-):
-    """Run the whole job on the bundled (invented) sample sweeps and write a report."""
-    from rheofit.demo import run_demo, summary
-    from rheofit.report.progress import rich_steps
-
-    with rich_steps() as steps:
-        result = run_demo(out, force=force, steps=steps)
-    _stdout().print(summary(result))

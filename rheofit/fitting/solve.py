@@ -9,7 +9,7 @@ Method
 * Residuals are relative, in log space: r_i = ln tau_model(gamma_dot_i) -
   ln tau_i, minimised by lmfit's trust-region reflective least squares
   within the declared bounds; ``positive_scale`` parameters are fitted as
-  their logarithms (:mod:`rheofit.fitproblem`).
+  their logarithms (:mod:`rheofit.fitting.problem`).
 * Start from the declaration's ``guess()``; parameters that commonly trap
   the optimiser (``lam``, ``tau_y``, ``eta_inf``) get a few extra starts
   and the lowest RSS wins.
@@ -19,7 +19,7 @@ Method
 * Standard errors from the covariance s^2 (J^T J)^-1, mapped back from log
   with the delta method, se(p) = p * se(ln p).
 * AICc and BIC from the Gaussian log-likelihood of the log residuals
-  (:func:`rheofit.fitstats.information_criteria`); a Wald-Wolfowitz runs
+  (:func:`rheofit.fitting.statistics.information_criteria`); a Wald-Wolfowitz runs
   test on the residual signs ordered by shear rate flags a systematic
   misfit.
 
@@ -38,12 +38,12 @@ import math
 
 import numpy as np
 
-from rheofit import intervals
+from rheofit.fitting import intervals
 from rheofit.curve import Flag
 from rheofit.errors import FitError, ParameterError, choice_message
-from rheofit.fitproblem import LogStressProblem
-from rheofit.fitresult import Covariance, FitResult, ParameterEstimate
-from rheofit.fitstats import floored_rss, information_criteria, profile_threshold, runs_test
+from rheofit.fitting.problem import LogStressProblem
+from rheofit.fitting.result import Covariance, FitResult, ParameterEstimate
+from rheofit.fitting.statistics import floored_rss, information_criteria, profile_threshold, runs_test
 from rheofit.fluid import Fluid
 from rheofit.models import MODELS, ViscosityModel, get_model
 

@@ -1,4 +1,4 @@
-"""The plain-text report of a :class:`~rheofit.fitresult.FitResult`."""
+"""The plain-text report of a :class:`~rheofit.fitting.result.FitResult`."""
 
 from __future__ import annotations
 

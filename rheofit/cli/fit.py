@@ -1,0 +1,61 @@
+"""The ``fit`` command: fit viscosity models to flow curves, with 95 % intervals and a ranking."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Optional
+
+import typer
+
+from rheofit.cli.common import console, emit_json, read_overrides, user_errors
+from rheofit.cli.options import COLUMN, UNIT
+
+
+def fit_files(files, model: str, overrides: Optional[dict] = None):
+    """Read every curve of every file and fit it: [(curve, [FitResult best first])]."""
+    from rheofit.fitting import fit, fit_all
+    from rheofit.ingest import read_flow_curves
+    from rheofit.models import get_model
+
+    chosen = None if model == "all" else get_model(model).name
+    groups = []
+    with console(stderr=True).status("reading") as status:  # shown on a terminal only
+        for path in files:
+            for curve in read_flow_curves(path, **(overrides or {})):
+                status.update(f"fitting {curve.name} ({len(groups) + 1} so far)")
+                results = fit_all(curve) if chosen is None else [fit(curve, chosen)]
+                groups.append((curve, results))
+    return groups
+
+
+@user_errors
+def fit_command(
+    files: list[Path] = typer.Argument(..., help="CSV export(s) of a shear-rate sweep."),
+    model: str = typer.Option("all", "--model", "-m", help="A model name (see `rheofit models`) or 'all' to rank every model."),
+    as_json: bool = typer.Option(False, "--json", help="Print the fits as JSON instead of tables."),
+    out: Optional[Path] = typer.Option(None, "--out", "-o", help="Save the fits as JSON (read back by `rheofit flow`)."),
+    force: bool = typer.Option(False, "--force", help="Overwrite --out if it exists."),
+    column: Optional[list[str]] = COLUMN,
+    unit: Optional[list[str]] = UNIT,
+):
+    """Fit viscosity models to flow curves, with 95 % intervals and a ranking."""
+    from rheofit.fitting.saved import fits_document
+
+    if out is not None and out.exists() and not force:
+        from rheofit.errors import OutputExistsError
+
+        raise OutputExistsError(f"Output file '{out}' already exists; choose another name or pass --force to overwrite it.")
+    groups = fit_files(files, model, read_overrides(column, unit))
+    document = fits_document(groups)
+    if as_json:
+        emit_json(document, out, force)
+        return
+    from rheofit.report.console import curve_block, summary_table
+
+    screen = console()
+    for curve, results in groups:
+        screen.print(curve_block(curve, results, results[0]))
+    if len(groups) > 1:
+        screen.print(summary_table(groups))
+    if out is not None:
+        emit_json(document, out, force)

@@ -1,0 +1,18 @@
+"""Fitting viscosity models to flow curves, with honest 95 % intervals and a ranking.
+
+- :mod:`~rheofit.fitting.problem`: the log-space least-squares problem and its parametrisation
+- :mod:`~rheofit.fitting.solve`: :func:`fit` one model, :func:`fit_all` ranked by AICc
+- :mod:`~rheofit.fitting.intervals`: profile-likelihood and Wald interval ends
+- :mod:`~rheofit.fitting.statistics`: AICc/BIC, the profile threshold, the runs test
+- :mod:`~rheofit.fitting.result`: FitResult and its parts (to_dict/from_dict)
+- :mod:`~rheofit.fitting.text`: a fit's sectioned text report
+- :mod:`~rheofit.fitting.draws`: parameter draws that carry a fit's uncertainty, viscosity bands
+- :mod:`~rheofit.fitting.saved`: fits saved as JSON and read back
+
+(The package is ``fitting``, not ``fit``: ``rheofit.fit`` is the function.)
+"""
+
+from rheofit.fitting.result import FitResult
+from rheofit.fitting.solve import FitRanking, fit, fit_all
+
+__all__ = ["FitRanking", "FitResult", "fit", "fit_all"]

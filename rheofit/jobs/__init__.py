@@ -1,0 +1,1 @@
+"""Orchestration: the analysis behind a report (:mod:`~rheofit.jobs.analysis`) and the demo (:mod:`~rheofit.jobs.demo`)."""

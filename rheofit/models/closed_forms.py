@@ -1,0 +1,109 @@
+"""Closed-form laminar flow rates of tubes and slits: optional fast paths of the flow engine.
+
+Each function gives Q [m^3/s] from the wall shear stress tau_w [Pa] and the
+model's parameters (SI); a declaration names them in its ``extras`` as
+"tube_flow_rate"(tau_w, radius, **params) and "slit_flow_rate"(tau_w,
+half_gap, width, **params).  :mod:`rheofit.flow` checks them against its
+generic (Rabinowitsch-Mooney) path; they return 0 at or below a yield stress.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+
+def _yield_ratio(tau_w, tau_y):
+    """(phi, 1 - phi) with phi = tau_y / tau_w capped at 1 (no flow) [-].
+
+    1 - phi is formed as (tau_w - tau_y) / tau_w, exact near the yield stress.
+    """
+    tau_w = np.asarray(tau_w, dtype=float)
+    return np.minimum(tau_y / tau_w, 1.0), np.maximum(tau_w - tau_y, 0.0) / tau_w
+
+
+def newtonian_tube_flow_rate(tau_w, radius, mu):
+    """Q = pi R^3 tau_w / (4 mu): Hagen (1839), Poiseuille (1840)."""
+    return np.pi * radius**3 * np.asarray(tau_w, dtype=float) / (4.0 * mu)
+
+
+def newtonian_slit_flow_rate(tau_w, half_gap, width, mu):
+    """Q = 2 W h^2 tau_w / (3 mu): plane Poiseuille flow (Bird, Stewart & Lightfoot 2002, ch. 2)."""
+    return 2.0 * width * half_gap**2 * np.asarray(tau_w, dtype=float) / (3.0 * mu)
+
+
+def power_law_tube_flow_rate(tau_w, radius, K, n):
+    """Q = pi n R^3 / (3n + 1) * (tau_w / K)^(1/n): Skelland (1967); Chhabra & Richardson (2008), ch. 3."""
+    return np.pi * n * radius**3 / (3.0 * n + 1.0) * (np.asarray(tau_w, dtype=float) / K) ** (1.0 / n)
+
+
+def power_law_slit_flow_rate(tau_w, half_gap, width, K, n):
+    """Q = 2 n W h^2 / (2n + 1) * (tau_w / K)^(1/n): Skelland (1967); Chhabra & Richardson (2008)."""
+    return 2.0 * n * width * half_gap**2 / (2.0 * n + 1.0) * (np.asarray(tau_w, dtype=float) / K) ** (1.0 / n)
+
+
+def bingham_tube_flow_rate(tau_w, radius, tau_y, mu_p):
+    """Q = pi R^3 tau_w / (4 mu_p) * (1 - 4/3 phi + 1/3 phi^4): Buckingham (1921); Reiner (1926).
+
+    Evaluated as (1 - phi)^2 (3 + 2 phi + phi^2) / 3, free of cancellation near phi = 1.
+    """
+    phi, rest = _yield_ratio(tau_w, tau_y)
+    return np.pi * radius**3 * np.asarray(tau_w, dtype=float) / (4.0 * mu_p) * (
+        rest**2 * (3.0 + 2.0 * phi + phi**2) / 3.0)
+
+
+def bingham_slit_flow_rate(tau_w, half_gap, width, tau_y, mu_p):
+    """Q = 2 W h^2 tau_w / (3 mu_p) * (1 - 3/2 phi + 1/2 phi^3): Buckingham (1921), slit form.
+
+    Evaluated as (1 - phi)^2 (2 + phi) / 2.
+    """
+    phi, rest = _yield_ratio(tau_w, tau_y)
+    return 2.0 * width * half_gap**2 * np.asarray(tau_w, dtype=float) / (3.0 * mu_p) * (
+        rest**2 * (2.0 + phi) / 2.0)
+
+
+def herschel_bulkley_tube_flow_rate(tau_w, radius, tau_y, K, n):
+    """Q = pi R^3 (tau_w/K)^(1/n) (1-phi)^(1+1/n) [(1-phi)^2/(3+1/n) + 2 phi (1-phi)/(2+1/n) + phi^2/(1+1/n)].
+
+    Chhabra & Richardson (2008), ch. 3 (Herschel-Bulkley fluid in a pipe).
+    """
+    phi, rest = _yield_ratio(tau_w, tau_y)
+    m = 1.0 / n
+    bracket = rest**2 / (3 + m) + 2 * phi * rest / (2 + m) + phi**2 / (1 + m)
+    # (tau_w/K)^(1/n) (1-phi)^(1/n) = ((tau_w - tau_y)/K)^(1/n), the wall shear rate: no overflow
+    rate = (np.maximum(np.asarray(tau_w, dtype=float) - tau_y, 0.0) / K) ** m
+    return np.pi * radius**3 * rate * rest * bracket
+
+
+def herschel_bulkley_slit_flow_rate(tau_w, half_gap, width, tau_y, K, n):
+    """Q = 2 W h^2 (tau_w/K)^(1/n) (1-phi)^(1+1/n) [(1-phi)/(2+1/n) + phi/(1+1/n)] (slit form)."""
+    phi, rest = _yield_ratio(tau_w, tau_y)
+    m = 1.0 / n
+    bracket = rest / (2 + m) + phi / (1 + m)
+    rate = (np.maximum(np.asarray(tau_w, dtype=float) - tau_y, 0.0) / K) ** m
+    return 2.0 * width * half_gap**2 * rate * rest * bracket
+
+
+def casson_tube_flow_rate(tau_w, radius, tau_y, mu_c):
+    """Q = pi R^3 tau_w / (4 mu_c) * (1 - 16/7 sqrt(phi) + 4/3 phi - 1/21 phi^4): Casson (1959).
+
+    Evaluated with t = sqrt(phi) as (1-t)^2 (21 - 6t - 5t^2 - 4t^3 - 3t^4 - 2t^5 - t^6) / 21.
+    """
+    phi, rest = _yield_ratio(tau_w, tau_y)
+    t = np.sqrt(phi)
+    gap = rest / (1.0 + t)  # 1 - sqrt(phi)
+    poly = 21.0 - t * (6.0 + t * (5.0 + t * (4.0 + t * (3.0 + t * (2.0 + t)))))
+    return np.pi * radius**3 * np.asarray(tau_w, dtype=float) / (4.0 * mu_c) * gap**2 * poly / 21.0
+
+
+def casson_slit_flow_rate(tau_w, half_gap, width, tau_y, mu_c):
+    """Q = 2 W h^2 tau_w / (3 mu_c) * (1 - 12/5 sqrt(phi) + 3/2 phi - 1/10 phi^3) (slit form of Casson 1959).
+
+    Evaluated with t = sqrt(phi) as (1-t)^2 (10 - 4t - 3t^2 - 2t^3 - t^4) / 10.
+    """
+    phi, rest = _yield_ratio(tau_w, tau_y)
+    t = np.sqrt(phi)
+    gap = rest / (1.0 + t)
+    poly = 10.0 - t * (4.0 + t * (3.0 + t * (2.0 + t)))
+    return 2.0 * width * half_gap**2 * np.asarray(tau_w, dtype=float) / (3.0 * mu_c) * gap**2 * poly / 10.0
+
+
