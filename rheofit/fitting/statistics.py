@@ -1,5 +1,6 @@
 """Statistics of a least-squares fit in log space: information criteria,
-the profile-likelihood threshold and the runs test on residual signs.
+Akaike weights, the profile-likelihood threshold, the runs test on residual
+signs and parameter correlations.
 
 All functions take plain numbers; nothing here knows about models.
 """
@@ -67,6 +68,29 @@ def information_criteria(rss: float, n_points: int, n_params: int) -> dict[str, 
     aicc = aic + 2 * k * (k + 1) / dof if dof > 0 else math.inf
     bic = fit_term + k * math.log(n)
     return {"aic": aic, "aicc": aicc, "bic": bic}
+
+
+def akaike_weights(aicc) -> list[float]:
+    """Akaike weights of models fitted to the same data [-], in the order given.
+
+    With D_i = AICc_i - min_j AICc_j::
+
+        w_i = exp(-D_i / 2) / sum_j exp(-D_j / 2)
+
+    A model with a non-finite AICc gets weight 0; all weights are nan when
+    no AICc is finite.  Burnham, K.P. & Anderson, D.R. (2002) Model
+    Selection and Multimodel Inference, 2nd ed., Springer, sec. 2.9 (from
+    memory).
+
+    >>> [round(w, 4) for w in akaike_weights([10.0, 12.0, float("inf")])]
+    [0.7311, 0.2689, 0.0]
+    """
+    aicc = np.asarray(aicc, dtype=float).ravel()
+    finite = np.isfinite(aicc)
+    if not finite.any():
+        return [math.nan] * aicc.size
+    rel = np.where(finite, np.exp(-0.5 * (np.where(finite, aicc, 0.0) - aicc[finite].min())), 0.0)
+    return (rel / rel.sum()).tolist()
 
 
 def profile_threshold(n_points: int, n_params: int, level: float = 0.95) -> float:
