@@ -31,7 +31,7 @@ import importlib
 # of the same name, is what ``rheofit.fluid`` means.
 from rheofit.fluid import Fluid, fluid
 
-__version__ = "0.1.0"
+from rheofit.version import VERSION as __version__
 
 _EXPORTS = {
     "FlowCurve": "rheofit.curve",

@@ -58,10 +58,10 @@ def _render(plan, steps: Steps, keep) -> dict:
 def _header(analysis) -> Raw:
     from datetime import date
 
-    from rheofit import __version__
+    from rheofit.version import VERSION
 
     parts = [tag("h1", analysis.title),
-             tag("p", f"Made with rheofit {__version__} on {date.today().isoformat()}.", class_="meta")]
+             tag("p", f"Made with rheofit {VERSION} on {date.today().isoformat()}.", class_="meta")]
     if analysis.notice:
         parts.append(tag("p", analysis.notice, class_="notice"))
     return join(*parts)
