@@ -7,6 +7,7 @@
 - :mod:`~rheofit.fitting.result`: FitResult and its parts (to_dict/from_dict)
 - :mod:`~rheofit.fitting.text`: a fit's sectioned text report
 - :mod:`~rheofit.fitting.draws`: parameter draws that carry a fit's uncertainty, viscosity bands
+- :mod:`~rheofit.fitting.band`: the band of a fitted curve as data (ViscosityBand), as drawn and saved
 - :mod:`~rheofit.fitting.saved`: fits saved as JSON and read back
 
 (The package is ``fitting``, not ``fit``: ``rheofit.fit`` is the function.)
