@@ -6,7 +6,7 @@ stay fast.
 
 The map (dependencies point down this list, never up; tests/test_layout.py checks it):
 
-- ground floor: ``errors``, ``units``, ``output``, ``progress``, ``curve``
+- ground floor: ``errors``, ``units``, ``output``, ``progress``, ``curve``, ``markup`` (HTML escaping)
 - ``models/``   ADD A MODEL HERE: declaration, catalogue, closed forms
 - ``fluid``     a model with given parameter values
 - ``ingest/``   ADD AN INPUT FORMAT HERE: text exports -> FlowCurve

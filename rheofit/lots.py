@@ -42,6 +42,7 @@ import numpy as np
 
 from rheofit.curve import Flag, FlowCurve
 from rheofit.errors import FitError, GeometryError, ParameterError, choice_message
+from rheofit.markup import join, table, tag
 from rheofit.output import json_safe
 from rheofit.units import parse_tolerance
 
@@ -161,6 +162,45 @@ class Comparison:
         return (f"Comparison(model={self.model!r}, lots={list(self.lots)!r}, "
                 f"reference={self.reference}, p_value={self.p_value:.3g}, "
                 f"within={[bool(v) for v in self.table['within_tolerance']]})")
+
+    def _repr_html_(self) -> str:
+        """A compact HTML table for notebooks (every user string escaped)."""
+        return _html(self)
+
+    def to_frame(self):
+        """The table (one row per lot, columns as in :attr:`table`) as a new pandas DataFrame."""
+        return self.table.copy()
+
+
+def _html_row(c: Comparison, i: int, row: dict) -> list[str]:
+    fit = c.fits[i]
+    cells = [row["lot"] + (" (reference)" if i == c.reference else "")]
+    cells += [f"{fit.params[n].value:.4g} {fit.params[n].interval_text()}" for n in fit.declaration.parameter_names]
+    if c.solved:
+        q = c.solved
+        cells += [f"{row[q]:.4g} ({row[q + '_low']:.4g} to {row[q + '_high']:.4g})", _pct(row["deviation"])]
+    return cells + [_pct(row["max_viscosity_deviation"]), row["verdict"]]
+
+
+def _html(c: Comparison) -> str:
+    """The heading, one row per lot, the flags and the caution."""
+    from rheofit.flow.predict import SAFETY_CAUTION
+
+    head = (f"Lots compared with the {c.model} model ({c.model_choice}); reference lot "
+            f"{c.lots[c.reference]}; tolerance {100 * c.tolerance:g} %")
+    units = [f"{spec.name} [{spec.unit}]" for spec in c.fits[0].declaration.parameters]
+    headers = ["lot", *units]
+    if c.solved:
+        headers += [f"{_WORDS[c.solved]} [{_UNITS[c.solved]}] (95 %)", "deviation"]
+    headers += ["largest viscosity deviation", "verdict"]
+    rows = [_html_row(c, i, row) for i, row in enumerate(c.table.to_dict(orient="records"))]
+    test = (f"same-curve test: p = {c.p_value:.3g}" if math.isfinite(c.p_value)
+            else "same-curve test: not available")
+    parts = [tag("p", tag("strong", head)), table(headers, rows, caption=test)]
+    if c.flags:
+        parts.append(table(["flag", "message"], [[f.code, f.message] for f in c.flags]))
+    parts.append(tag("p", SAFETY_CAUTION))
+    return join(*parts)
 
 
 def _pct(x: float, sign: bool = True) -> str:

@@ -22,7 +22,7 @@ PACKAGE = Path(__file__).resolve().parent.parent / "rheofit"
 LAYERS = (
     ("rheofit.errors",),
     ("rheofit.version", "rheofit.units", "rheofit.output", "rheofit.progress", "rheofit.curve",
-     "rheofit.sample_data"),
+     "rheofit.markup", "rheofit.sample_data"),
     ("rheofit.models",),
     ("rheofit.fluid",),
     ("rheofit.ingest",),

@@ -184,3 +184,127 @@ def test_the_import_check_can_fail():
     assert computing_imports("def f():\n    from rheofit.flow import engine\n") == ["rheofit.flow.engine"]
     assert computing_imports("from rheofit.flow.intervals import operating_band as b\n")
     assert computing_imports("from rheofit.flow.predict import SAFETY_CAUTION\n") == []
+
+
+# --- notebooks: escaped HTML ---------------------------------------------------------------------
+
+class Tags(HTMLParser):
+    def __init__(self):
+        super().__init__(convert_charrefs=True)
+        self.tags, self.text = [], []
+
+    def handle_starttag(self, tag, attrs):
+        self.tags.append(tag)
+
+    def handle_data(self, data):
+        self.text.append(data)
+
+
+def _parsed(markup: str) -> Tags:
+    page = Tags()
+    page.feed(markup)
+    page.close()
+    return page
+
+
+def _assert_escaped(markup: str):
+    page = _parsed(markup)
+    assert "script" not in page.tags and "<script" not in markup
+    assert HOSTILE in "".join(page.text)  # shown as text, not lost
+    return page
+
+
+def test_a_fit_shows_as_an_escaped_table_in_a_notebook(hostile):
+    best = fit_all(hostile)[0]
+    markup = best._repr_html_()
+    page = _assert_escaped(markup)
+    assert "table" in page.tags
+    text = "".join(page.text)
+    for p in best.params.values():
+        assert f"{p.value:.4g}" in text and p.interval_text() in text
+    assert f"{best.aicc:.4g}" in text
+
+
+def test_a_prediction_shows_as_an_escaped_table_with_the_caution(hostile):
+    from rheofit.flow import SAFETY_CAUTION
+
+    best = fit_all(hostile)[0]
+    p = predict(best, TUBE, flow_rate=50 * UL_PER_MIN)
+    text = "".join(_assert_escaped(p._repr_html_()).text)
+    assert f"{p.pressure_drop:.4g} Pa" in text and SAFETY_CAUTION in text
+    assert f"{p.pressure_drop_ci95[0]:.4g} to {p.pressure_drop_ci95[1]:.4g} Pa" in text
+    many = predict(best, TUBE, flow_rate=np.linspace(10, 100, 20) * UL_PER_MIN, uncertainty=False)
+    page = _assert_escaped(many._repr_html_())
+    flag_rows = 1 + len(many.flags) if many.flags else 0
+    assert page.tags.count("tr") == 1 + 12 + flag_rows and "8 more operating points" in "".join(page.text)
+
+
+def test_a_comparison_shows_as_an_escaped_table(hostile):
+    from rheofit.lots import compare
+
+    lot_a = read_flow_curve(_sample("medium_lot_A"))
+    comparison = compare([lot_a, hostile], geometry=TUBE, flow_rate=50 * UL_PER_MIN, model="carreau",
+                         samples=60)
+    page = _assert_escaped(comparison._repr_html_())
+    text = "".join(page.text)
+    flag_rows = 1 + len(comparison.flags) if comparison.flags else 0
+    assert page.tags.count("tr") == 1 + 2 + flag_rows
+    for verdict in comparison.table["verdict"]:
+        assert verdict in text
+
+
+# --- pandas frames ----------------------------------------------------------------------------------
+
+def test_a_ranking_frame_holds_the_ranking(analysis):
+    ranking = analysis.samples[0].ranking
+    frame = ranking.to_frame()
+    assert list(frame.columns) == ["model", "title", "n_params", "aicc", "delta_aicc", "akaike_weight",
+                                   "aic", "bic", "rms_log_residual", "r_squared_log", "resolved", "flags"]
+    assert frame["model"].tolist() == [r.model for r in ranking]
+    np.testing.assert_array_equal(frame["aicc"], [r.aicc for r in ranking])
+    np.testing.assert_array_equal(frame["bic"], [r.bic for r in ranking])
+    np.testing.assert_array_equal(frame["rms_log_residual"], [r.rms_log_residual for r in ranking])
+    assert frame["resolved"].tolist() == [r.resolved for r in ranking]
+    delta = frame["aicc"] - frame["aicc"].min()
+    np.testing.assert_allclose(frame["delta_aicc"], delta, rtol=0, atol=1e-12)
+    # Akaike weights w_i = exp(-D_i/2) / sum_j exp(-D_j/2) (Burnham & Anderson 2002, sec. 2.9; from memory)
+    np.testing.assert_allclose(frame["akaike_weight"], np.exp(-delta / 2) / np.exp(-delta / 2).sum(), rtol=1e-12)
+
+
+def test_an_operating_curve_frame_holds_the_curve_and_hagen_poiseuille():
+    mu = 1e-3
+    p = predict(fluid("newtonian", mu=mu), TUBE, flow_rate=50 * UL_PER_MIN)
+    curve = operating_curve(p)
+    frame = curve.to_frame()
+    # a Newtonian fluid's zero-shear viscosity is its viscosity: both lines are the fluid itself
+    assert list(frame.columns) == ["flow_rate", "pressure_drop", "newtonian_operating_point",
+                                   "newtonian_zero_shear"]
+    np.testing.assert_array_equal(frame["flow_rate"], curve.flow_rate)
+    np.testing.assert_array_equal(frame["pressure_drop"], curve.pressure_drop)
+    # Source: Hagen-Poiseuille, dP = 8 mu L Q / (pi R^4) (Bird, Stewart & Lightfoot 2002, eq. 2.3-21)
+    expected = 8 * mu * TUBE.length * frame["flow_rate"] / (math.pi * TUBE.radius**4)
+    np.testing.assert_allclose(frame["pressure_drop"], expected, rtol=1e-8, atol=1e-12)
+    for column in ("newtonian_operating_point", "newtonian_zero_shear"):
+        np.testing.assert_allclose(frame[column], expected, rtol=1e-9, atol=1e-12)
+    assert curve.low is None and curve.to_dict()["low"] is None  # given parameters: no band
+
+
+def test_an_operating_curve_frame_of_a_fit_has_its_band(analysis):
+    curve = analysis.samples[0].cases[0].operating_curve
+    frame = curve.to_frame()
+    assert list(frame.columns) == ["flow_rate", "pressure_drop", "pressure_drop_low", "pressure_drop_high",
+                                   "newtonian_operating_point", "newtonian_zero_shear"]
+    np.testing.assert_array_equal(frame["pressure_drop_low"], curve.low)
+    np.testing.assert_array_equal(frame["pressure_drop_high"], curve.high)
+    np.testing.assert_array_equal(frame["newtonian_zero_shear"], curve.newtonian[1].pressure_drop)
+
+
+def test_a_comparison_frame_is_a_copy_of_its_table():
+    from rheofit.lots import compare
+
+    lots = [read_flow_curve(_sample(s)) for s in ("medium_lot_A", "medium_lot_B")]
+    comparison = compare(lots, model="carreau")
+    frame = comparison.to_frame()
+    assert frame.equals(comparison.table) and frame is not comparison.table
+    frame.loc[0, "verdict"] = "changed"
+    assert comparison.table.loc[0, "verdict"] != "changed"

@@ -21,6 +21,7 @@ from rheofit.curve import Flag
 from rheofit.errors import FitError
 from rheofit.fitting.text import text_report
 from rheofit.fluid import Fluid
+from rheofit.markup import join, key_values, table, tag
 from rheofit.models import ViscosityModel, get_model
 from rheofit.output import finite_or_none, json_safe
 
@@ -249,6 +250,27 @@ class FitResult:
         values = ", ".join(f"{k}={v:.4g}" for k, v in self.values.items())
         return (f"FitResult(model={self.model!r}, name={self.name!r}, {values}, "
                 f"aicc={self.aicc:.4g}, flags={[f.code for f in self.flags]})")
+
+    def _repr_html_(self) -> str:
+        """A compact HTML table for notebooks (every user string escaped)."""
+        return _html(self)
+
+
+def _html(fit: FitResult) -> str:
+    """The parameters with their 95 % intervals, the goodness of fit and the flags."""
+    head = f"{fit.declaration.title} fit" + (f" of {fit.name}" if fit.name else "")
+    rows = [[p.name, f"{p.value:.4g}", p.unit, p.interval_text(), "yes" if p.resolved else "no", p.note]
+            for p in fit.params.values()]
+    methods = ", ".join(sorted({p.method for p in fit.params.values()}))
+    facts = [("AICc", f"{fit.aicc:.4g}"), ("BIC", f"{fit.bic:.4g}"),
+             ("rms of the log residuals", f"{fit.rms_log_residual:.3g}"), ("points", str(fit.n_points))]
+    if fit.shear_rate_range:
+        facts.append(("shear rate [1/s]", "{:.3g} to {:.3g}".format(*fit.shear_rate_range)))
+    flags = table(["flag", "message"], [[f.code, f.message] for f in fit.flags]) if fit.flags else ""
+    return join(tag("p", tag("strong", head)),
+                table(["parameter", "value", "unit", "95 % interval", "resolved", "note"], rows,
+                      caption=f"95 % intervals: {methods}"),
+                key_values(facts), flags)
 
 
 def _flag_dict(flag: Flag) -> dict:

@@ -401,6 +401,27 @@ class FitRanking(list):
         :func:`rheofit.fitting.statistics.akaike_weights`)."""
         return akaike_weights([r.aicc for r in self])
 
+    def to_frame(self):
+        """A pandas DataFrame, one row per fit, best first.
+
+        Columns: ``model``, ``title``, ``n_params``, ``aicc``, ``delta_aicc``
+        (to the best), ``akaike_weight``, ``aic``, ``bic``,
+        ``rms_log_residual``, ``r_squared_log``, ``resolved`` (every interval
+        closed) and ``flags`` (their codes, comma-separated).  The models
+        not fitted are in :attr:`skipped`.
+        """
+        import pandas as pd
+
+        best = min((r.aicc for r in self if math.isfinite(r.aicc)), default=math.nan)
+        rows = [{"model": r.model, "title": r.declaration.title, "n_params": r.n_params, "aicc": r.aicc,
+                 "delta_aicc": r.aicc - best, "akaike_weight": weight, "aic": r.aic, "bic": r.bic,
+                 "rms_log_residual": r.rms_log_residual, "r_squared_log": r.r_squared_log,
+                 "resolved": r.resolved, "flags": ", ".join(f.code for f in r.flags)}
+                for r, weight in zip(self, self.akaike_weights())]
+        return pd.DataFrame(rows, columns=["model", "title", "n_params", "aicc", "delta_aicc", "akaike_weight",
+                                           "aic", "bic", "rms_log_residual", "r_squared_log", "resolved",
+                                           "flags"])
+
 
 def fit_all(curve, models=None, *, interval_method: str = "auto") -> FitRanking:
     """Fit several models and rank them by AICc, best first.

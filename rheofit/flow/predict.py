@@ -22,6 +22,7 @@ from rheofit.errors import GeometryError, ParameterError, UnitError
 from rheofit.fluid import Fluid, as_fluid
 from rheofit.flow import engine, regime
 from rheofit.flow.geometry import check_geometry
+from rheofit.markup import join, key_values, table, tag
 from rheofit.output import json_safe
 from rheofit.units import parse_quantity
 
@@ -160,6 +161,10 @@ class FlowPrediction:
     def __str__(self) -> str:
         return self.text()
 
+    def _repr_html_(self) -> str:
+        """A compact HTML table for notebooks (every user string escaped)."""
+        return _html(self)
+
     def text(self) -> str:
         """Readable report: operating point(s), regime, Newtonian comparison, flags, caution."""
         label = f" '{self.fluid.name}'" if self.fluid.name else ""
@@ -181,7 +186,8 @@ class FlowPrediction:
         return "\n".join(lines)
 
 
-def _scalar_lines(p: FlowPrediction) -> list[str]:
+def _quantities(p: FlowPrediction) -> list[tuple[str, object, str]]:
+    """(name, value, unit) of a prediction, in the order shown."""
     rows = [
         ("pressure drop", p.pressure_drop, "Pa"),
         ("flow rate", p.flow_rate, "m^3/s"),
@@ -201,18 +207,29 @@ def _scalar_lines(p: FlowPrediction) -> list[str]:
     if p.zero_shear_viscosity is not None:
         rows += [("zero-shear pressure drop", p.zero_shear_pressure_drop, "Pa"),
                  ("pressure drop / zero-shear", p.zero_shear_ratio, "-")]
-    lines = [f"  {name:<27}{value:.4g} {unit}" for name, value, unit in rows]
-    lines.append(f"  {'laminar':<27}{'yes' if p.laminar else 'no'}")
+    return rows
+
+
+def _interval_rows(p: FlowPrediction) -> list[tuple[str, tuple, str]]:
+    """(name, (low, high), unit) of the 95 % intervals the prediction carries."""
+    found = []
     for name, unit in (("pressure_drop", "Pa"), ("flow_rate", "m^3/s"), ("wall_shear_stress", "Pa"),
                        ("wall_shear_rate", "1/s")):
         ci = getattr(p, name + "_ci95")
         if ci is not None:
-            label = name.replace("_", " ") + ", 95 %"
-            lines.append(f"  {label:<27}{ci[0]:.4g} to {ci[1]:.4g} {unit}")
+            found.append((name.replace("_", " ") + ", 95 %", ci, unit))
+    return found
+
+
+def _scalar_lines(p: FlowPrediction) -> list[str]:
+    lines = [f"  {name:<27}{value:.4g} {unit}" for name, value, unit in _quantities(p)]
+    lines.append(f"  {'laminar':<27}{'yes' if p.laminar else 'no'}")
+    lines += [f"  {label:<27}{ci[0]:.4g} to {ci[1]:.4g} {unit}" for label, ci, unit in _interval_rows(p)]
     return lines
 
 
-def _table_lines(p: FlowPrediction, shown: int = 12) -> list[str]:
+def _columns(p: FlowPrediction) -> list[tuple[str, object]]:
+    """(heading, values) of the table of an array prediction."""
     columns = [("dP [Pa]", p.pressure_drop), ("Q [m^3/s]", p.flow_rate),
                ("tau_w [Pa]", p.wall_shear_stress), ("gd_w [1/s]", p.wall_shear_rate),
                ("V [m/s]", p.mean_velocity), ("Re", p.reynolds),
@@ -220,6 +237,11 @@ def _table_lines(p: FlowPrediction, shown: int = 12) -> list[str]:
     for short, ci in (("dP", p.pressure_drop_ci95), ("Q", p.flow_rate_ci95)):
         if ci is not None:
             columns[2:2] = [(f"{short} 2.5%", ci[0]), (f"{short} 97.5%", ci[1])]
+    return columns
+
+
+def _table_lines(p: FlowPrediction, shown: int = 12) -> list[str]:
+    columns = _columns(p)
     head = "  " + "".join(f"{name:>12}" for name, _ in columns) + f"{'laminar':>9}"
     lines = [head]
     flat = [np.ravel(values) for _, values in columns]
@@ -230,6 +252,27 @@ def _table_lines(p: FlowPrediction, shown: int = 12) -> list[str]:
     if p.size > shown:
         lines.append(f"  ... {p.size - shown} more operating points (see to_dict())")
     return lines
+
+
+def _html(p: FlowPrediction, shown: int = 12) -> str:
+    """The prediction as a compact HTML block: quantities (or a table of points), flags, caution."""
+    label = f" '{p.fluid.name}'" if p.fluid.name else ""
+    parts = [tag("p", tag("strong", f"Flow of {p.fluid.model}{label} in a {p.geometry.describe()}"))]
+    if np.ndim(p.pressure_drop) == 0:
+        pairs = [(name, f"{float(value):.4g} {unit}") for name, value, unit in _quantities(p)]
+        pairs.append(("laminar", "yes" if p.laminar else "no"))
+        pairs += [(name, f"{float(ci[0]):.4g} to {float(ci[1]):.4g} {unit}") for name, ci, unit in _interval_rows(p)]
+        parts.append(key_values(pairs))
+    else:
+        columns = _columns(p)
+        flat = [np.ravel(values) for _, values in columns]
+        rows = [[f"{values[i]:.4g}" for values in flat] for i in range(min(shown, p.size))]
+        more = f"{p.size - shown} more operating points in to_dict()" if p.size > shown else None
+        parts.append(table([name for name, _ in columns], rows, caption=more))
+    if p.flags:
+        parts.append(table(["flag", "message"], [[f.code, f.message] for f in p.flags]))
+    parts.append(tag("p", SAFETY_CAUTION))
+    return join(*parts)
 
 
 def _profile_frame(fluid: Fluid, geometry, wall_shear_stress: float, points: int):
