@@ -175,7 +175,8 @@ class Comparison:
 def _html_row(c: Comparison, i: int, row: dict) -> list[str]:
     fit = c.fits[i]
     cells = [row["lot"] + (" (reference)" if i == c.reference else "")]
-    cells += [f"{fit.params[n].value:.4g} {fit.params[n].interval_text()}" for n in fit.declaration.parameter_names]
+    cells += [f"{fit.params[n].value:.4g} {fit.params[n].interval_text()}"
+              for n in fit.declaration.parameter_names]
     if c.solved:
         q = c.solved
         cells += [f"{row[q]:.4g} ({row[q + '_low']:.4g} to {row[q + '_high']:.4g})", _pct(row["deviation"])]

@@ -20,7 +20,7 @@ from rheofit.ingest import read_flow_curve
 from rheofit.report import display, plots
 from rheofit.report.figures_fit import measured_points
 from rheofit.fitting.band import drawn_band
-from rheofit.flow.curves import operating_curve, velocity_profile
+from rheofit.flow.curves import operating_curve, profile_against_newtonian
 
 TUBE = Tube("0.8 mm", "30 cm")
 SLIT = Slit("200 um", "8 mm", "2 cm")
@@ -245,7 +245,7 @@ def test_velocity_profile_marks_the_plug_of_a_yield_stress_fluid(microgel):
     best = ranking[0]
     assert best.fluid.yield_stress > 0
     p = predict(best, SLIT, pressure_drop=300.0, uncertainty=False)
-    figure = plots.velocity_profile_figure(p, velocity_profile(p))
+    figure = plots.velocity_profile_figure(p, profile_against_newtonian(p))
     axes = _axes(figure)
     (plug,) = _labelled(axes, "plug")
     left, right = _xspan(plug)
@@ -259,7 +259,7 @@ def test_velocity_profile_marks_the_plug_of_a_yield_stress_fluid(microgel):
 def test_velocity_profile_against_the_newtonian_parabola(medium):
     _, ranking = medium
     p = predict(ranking[0], TUBE, flow_rate=50 * UL_PER_MIN, uncertainty=False)
-    axes = _axes(plots.velocity_profile_figure(p, velocity_profile(p)))
+    axes = _axes(plots.velocity_profile_figure(p, profile_against_newtonian(p)))
     (model,) = _labelled(axes, "model")
     newtonian = _exact(axes, "Newtonian, same flow rate")
     # Source: Hagen-Poiseuille profile, u_max = 2 V in a tube (Bird, Stewart & Lightfoot 2002, eq. 2.3-19)
@@ -271,7 +271,7 @@ def test_velocity_profile_against_the_newtonian_parabola(medium):
 def test_velocity_profile_of_a_slit_peaks_at_one_and_a_half_times_the_mean():
     water = fluid("newtonian", mu=1e-3)
     p = predict(water, SLIT, flow_rate=50 * UL_PER_MIN)
-    axes = _axes(plots.velocity_profile_figure(p, velocity_profile(p)))
+    axes = _axes(plots.velocity_profile_figure(p, profile_against_newtonian(p)))
     newtonian = _exact(axes, "Newtonian, same flow rate")
     # Source: plane Poiseuille flow, u_max = 3/2 V (Bird, Stewart & Lightfoot 2002, problem 2B.3)
     assert max(newtonian.get_ydata()) == pytest.approx(1.5 * p.mean_velocity * 1e3, rel=1e-6)
@@ -281,7 +281,7 @@ def test_velocity_profile_says_no_flow_below_the_threshold(microgel):
     _, ranking = microgel
     p = predict(ranking[0], SLIT, pressure_drop=100.0, uncertainty=False)
     assert not p.flowing
-    axes = _axes(plots.velocity_profile_figure(p, velocity_profile(p)))
+    axes = _axes(plots.velocity_profile_figure(p, profile_against_newtonian(p)))
     texts = " ".join(t.get_text() for t in axes.texts)
     assert "No flow" in texts and "159" in texts
 

@@ -154,8 +154,8 @@ def test_the_operating_band_agrees_with_the_prediction_interval_at_the_operating
 COMPUTING_MODULES = {"rheofit.fitting.draws", "rheofit.fitting.band", "rheofit.flow.intervals",
                      "rheofit.flow.engine", "rheofit.flow.curves"}
 COMPUTING_NAMES = {"viscosity_band", "operating_band", "flow_intervals", "parameter_draws", "drawn_band",
-                   "operating_curve", "velocity_profile", "newtonian_profile", "pressure_drop", "flow_rate",
-                   "engine", "draws", "intervals", "band", "curves"}
+                   "operating_curve", "velocity_profile", "profile_against_newtonian", "newtonian_profile",
+                   "pressure_drop", "flow_rate", "engine", "draws", "intervals", "band", "curves"}
 
 
 def computing_imports(source: str) -> list[str]:

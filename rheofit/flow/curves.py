@@ -3,9 +3,10 @@
 :func:`operating_curve` solves the pressure drop a fluid needs over flow
 rates from 0 to twice the operating one (with the 95 % band of a fit,
 :func:`rheofit.flow.intervals.flow_intervals`, and the Newtonian lines);
-:func:`velocity_profile` puts the prediction's profile beside a Newtonian
-fluid carrying the same flow rate.  Both are frozen objects that the report
-draws and that go to JSON (``to_dict``) and pandas (``to_frame``) as they are.
+:func:`profile_against_newtonian` puts the prediction's profile beside a
+Newtonian fluid carrying the same flow rate.  Both are frozen objects that
+the report draws and that go to JSON (``to_dict``) as they are; the
+operating curve also to pandas (``to_frame``).
 
 Units: flow rate [m^3/s], pressure [Pa], position [m from the centre line],
 velocity [m/s], viscosity [Pa*s].
@@ -25,7 +26,7 @@ from rheofit.flow import engine
 from rheofit.flow.intervals import flow_intervals
 from rheofit.output import json_safe
 
-__all__ = ["NewtonianLine", "OperatingCurve", "VelocityProfile", "operating_curve", "velocity_profile",
+__all__ = ["NewtonianLine", "OperatingCurve", "VelocityProfile", "operating_curve", "profile_against_newtonian",
            "newtonian_profile"]
 
 #: even steps of the flow-rate grid (linear axis) ...
@@ -183,9 +184,13 @@ def _band(fit, geometry, q):
 def operating_curve(prediction, fit=None) -> OperatingCurve:
     """dP(Q) of the prediction's fluid and geometry, from Q = 0 to twice the operating flow rate.
 
-    With ``fit`` (the FitResult behind the prediction) the curve carries its
-    95 % band; the Newtonian lines use the prediction's reference viscosity
-    and, when the model has one, its zero-shear viscosity.
+    Solved by :func:`rheofit.flow.engine.pressure_drop` (the Rabinowitsch-Mooney
+    relation of the geometry); at Q = 0 the threshold pressure drop (0 without
+    a yield stress); at rest, out to the flow at three times the larger of the
+    threshold and the given pressure drop.  With ``fit`` (the FitResult
+    behind the prediction) the curve carries its 95 % band; the Newtonian
+    lines use the prediction's reference viscosity and, when the model has
+    one, its zero-shear viscosity.
     """
     q = flow_rate_grid(_flow_span(prediction))
     dp = np.asarray(engine.pressure_drop(prediction.fluid, prediction.geometry, q[1:]), float)
@@ -210,7 +215,7 @@ def newtonian_profile(geometry, flow_rate: float, position) -> np.ndarray:
     return engine.velocity_profile(newtonian, geometry, tau_w, np.abs(position))
 
 
-def velocity_profile(prediction) -> VelocityProfile:
+def profile_against_newtonian(prediction) -> VelocityProfile:
     """The prediction's profile (operating point 0) beside the Newtonian one at the same Q."""
     position = np.asarray(prediction.profile["position"], float)
     velocity = np.asarray(prediction.profile["velocity"], float)

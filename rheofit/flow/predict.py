@@ -261,7 +261,8 @@ def _html(p: FlowPrediction, shown: int = 12) -> str:
     if np.ndim(p.pressure_drop) == 0:
         pairs = [(name, f"{float(value):.4g} {unit}") for name, value, unit in _quantities(p)]
         pairs.append(("laminar", "yes" if p.laminar else "no"))
-        pairs += [(name, f"{float(ci[0]):.4g} to {float(ci[1]):.4g} {unit}") for name, ci, unit in _interval_rows(p)]
+        pairs += [(name, f"{float(ci[0]):.4g} to {float(ci[1]):.4g} {unit}")
+                  for name, ci, unit in _interval_rows(p)]
         parts.append(key_values(pairs))
     else:
         columns = _columns(p)

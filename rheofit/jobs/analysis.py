@@ -182,7 +182,7 @@ def predict_cases(chosen, cases, density=None) -> tuple[CaseResult, ...]:
     for case in cases:
         prediction = predict(chosen, case.geometry, density=density, **case.point)
         results.append(CaseResult(case, prediction, curves.operating_curve(prediction, chosen),
-                                  curves.velocity_profile(prediction)))
+                                  curves.profile_against_newtonian(prediction)))
     return tuple(results)
 
 

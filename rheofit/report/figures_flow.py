@@ -53,7 +53,7 @@ def velocity_profile_figure(prediction, profile, *, label: str | None = None):
     """Velocity across the channel, the model against the Newtonian profile at the same Q.
 
     ``profile`` is the :class:`~rheofit.flow.curves.VelocityProfile` of
-    ``prediction`` (:func:`rheofit.flow.curves.velocity_profile`).  Position
+    ``prediction`` (:func:`rheofit.flow.curves.profile_against_newtonian`).  Position
     is the distance from the centre line (tube: radius r, slit: y) in µm or
     mm; velocity in mm/s or m/s.  A yield-stress fluid's plug is shaded; a
     fluid at rest gets a note with the threshold pressure drop.  Operating
