@@ -94,7 +94,7 @@ def akaike_weights(aicc) -> list[float]:
 
 
 #: correlations at or below this size [-] are left out of the reports (the
-#: threshold lmfit's fit report uses by default; from memory)
+#: default ``min_correl=0.1`` of lmfit's ``fit_report``, lmfit documentation)
 CORRELATION_SHOWN_ABOVE = 0.1
 
 
