@@ -42,6 +42,8 @@ import numpy as np
 
 from rheofit.curve import Flag, FlowCurve
 from rheofit.errors import FitError, GeometryError, ParameterError, choice_message
+from rheofit.output import json_safe
+from rheofit.units import parse_tolerance
 
 __all__ = ["compare", "Comparison", "same_curve_test", "shared_range", "lot_labels"]
 
@@ -122,18 +124,18 @@ class Comparison:
             "version": 1,
             "model": self.model,
             "model_choice": self.model_choice,
-            "aicc_totals": _json(self.aicc_totals),
+            "aicc_totals": json_safe(self.aicc_totals),
             "lots": list(self.lots),
             "reference": self.reference,
             "reference_lot": self.lots[self.reference],
             "tolerance": self.tolerance,
-            "shared_range": _json(list(self.shared_range)),
+            "shared_range": json_safe(list(self.shared_range)),
             "geometry": None if self.geometry is None else self.geometry.to_dict(),
-            "operating_point": _json(self.operating_point),
-            "p_value": _json(self.p_value),
-            "same_curve_test": _json(self.same_curve),
-            "table": _json(self.table.to_dict(orient="records")),
-            "flags": [_json(flag.to_dict()) for flag in self.flags],
+            "operating_point": json_safe(self.operating_point),
+            "p_value": json_safe(self.p_value),
+            "same_curve_test": json_safe(self.same_curve),
+            "table": json_safe(self.table.to_dict(orient="records")),
+            "flags": [json_safe(flag.to_dict()) for flag in self.flags],
             "fits": [fit.to_dict() for fit in self.fits],
             "predictions": [p.to_dict() for p in self.predictions],
             "caution": SAFETY_CAUTION,
@@ -159,21 +161,6 @@ class Comparison:
         return (f"Comparison(model={self.model!r}, lots={list(self.lots)!r}, "
                 f"reference={self.reference}, p_value={self.p_value:.3g}, "
                 f"within={[bool(v) for v in self.table['within_tolerance']]})")
-
-
-def _json(value):
-    """Numbers, strings, lists and dicts made JSON-safe (numpy unwrapped, nan -> None)."""
-    if isinstance(value, (bool, np.bool_)):
-        return bool(value)
-    if isinstance(value, (int, np.integer)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        return float(value) if math.isfinite(value) else None
-    if isinstance(value, dict):
-        return {str(k): _json(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple, np.ndarray)):
-        return [_json(v) for v in value]
-    return value if value is None or isinstance(value, str) else str(value)
 
 
 def _pct(x: float, sign: bool = True) -> str:
@@ -248,20 +235,6 @@ def lot_labels(curves) -> tuple[str, ...]:
         seen[base] = seen.get(base, 0) + 1
         labels.append(base if seen[base] == 1 else f"{base} ({seen[base]})")
     return tuple(labels)
-
-
-def _check_tolerance(tolerance) -> float:
-    from rheofit.units import parse_quantity
-
-    try:
-        value = parse_quantity(tolerance, "dimensionless") if isinstance(tolerance, str) else float(tolerance)
-    except (TypeError, ValueError):
-        value = math.nan
-    if not (math.isfinite(value) and value > 0):
-        raise ParameterError(
-            f"tolerance = {tolerance!r} must be a positive fraction or percentage, e.g. 0.1 or '10 %'."
-        )
-    return value
 
 
 def _check_reference(reference, labels) -> int:
@@ -578,7 +551,7 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
     """
     curves = _check_curves(curves)
     labels = lot_labels(curves)
-    tolerance = _check_tolerance(tolerance)
+    tolerance = parse_tolerance(tolerance)
     reference = _check_reference(reference, labels)
     geometry, point = _operating(geometry, flow_rate, pressure_drop)
     shared = shared_range(curves, labels)

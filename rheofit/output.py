@@ -1,12 +1,48 @@
-"""Writing outputs safely: atomically, and never over an existing file unless asked."""
+"""Writing outputs: values made JSON-safe, files written atomically and never over an
+existing file unless asked."""
 
 from __future__ import annotations
 
+import math
 import os
 import tempfile
 from pathlib import Path
 
+import numpy as np
+
 from rheofit.errors import OutputExistsError
+
+
+def finite_or_none(value) -> float | None:
+    """A JSON-safe float: None for None, nan and +/-inf (JSON has no nan)."""
+    if value is None:
+        return None
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+def json_safe(value):
+    """Numbers, strings, lists and dicts made JSON-safe, recursively.
+
+    numpy scalars and arrays are unwrapped, nan and +/-inf become None, dict
+    keys become strings, anything else unknown becomes its ``str``.
+
+    >>> json_safe({"a": np.array([1.5, np.nan]), 2: np.int64(3), "ok": np.bool_(True)})
+    {'a': [1.5, None], '2': 3, 'ok': True}
+    """
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        return finite_or_none(value)
+    if isinstance(value, np.ndarray):
+        return json_safe(value.tolist())
+    if isinstance(value, dict):
+        return {str(k): json_safe(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [json_safe(v) for v in value]
+    return value if value is None or isinstance(value, str) else str(value)
 
 
 def _umask() -> int:
@@ -28,6 +64,15 @@ def make_folder(folder) -> Path:
     return folder
 
 
+def refuse_existing(*paths) -> None:
+    """Raise OutputExistsError naming the first of ``paths`` that exists (None is skipped)."""
+    for path in paths:
+        if path is not None and Path(path).exists():
+            raise OutputExistsError(
+                f"Output file '{path}' already exists; choose another name or pass --force to overwrite it."
+            )
+
+
 def write_atomic(path, data: str | bytes, *, force: bool = False) -> Path:
     """Write ``data`` to ``path`` via a temporary file in the same folder and a rename.
 
@@ -37,10 +82,8 @@ def write_atomic(path, data: str | bytes, *, force: bool = False) -> Path:
     path = Path(path)
     if path.is_dir():
         raise OutputExistsError(f"Output '{path}' is a folder; give the name of a file to write.")
-    if path.exists() and not force:
-        raise OutputExistsError(
-            f"Output file '{path}' already exists; choose another name or pass --force to overwrite it."
-        )
+    if not force:
+        refuse_existing(path)
     make_folder(path.parent)
     mode = "wb" if isinstance(data, bytes) else "w"
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)

@@ -16,9 +16,10 @@ stays light.
 from __future__ import annotations
 
 import functools
+import math
 import re
 
-from rheofit.errors import UnitError
+from rheofit.errors import ParameterError, UnitError
 
 #: kind of quantity -> SI unit (pint spelling) it is converted to
 SI_UNITS: dict[str, str] = {
@@ -195,6 +196,27 @@ def parse_quantity(text, kind: str) -> float:
     if not unit:
         return number
     return float(to_si(number, unit, kind))
+
+
+def parse_tolerance(value, label: str = "tolerance") -> float:
+    """A relative tolerance [-]: '10%', '10 %', '0.1' or a number -> 0.1.
+
+    Raises ParameterError, quoting ``value`` after ``label`` (e.g. the option
+    name), unless it is a positive finite fraction.
+
+    >>> parse_tolerance("2.5 %")
+    0.025
+    """
+    try:
+        fraction = parse_quantity(value, "dimensionless") if isinstance(value, str) else float(value)
+    except (TypeError, ValueError):  # UnitError is a ValueError
+        fraction = math.nan
+    if not (math.isfinite(fraction) and fraction > 0):
+        raise ParameterError(
+            f"{label} {value!r} is not a positive fraction or percentage; write e.g. '10%', "
+            "'10 %' or 0.1."
+        )
+    return fraction
 
 
 def _first_example(kind: str) -> str:

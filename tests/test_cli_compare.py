@@ -14,8 +14,7 @@ import pytest
 import typer
 from typer.testing import CliRunner
 
-from rheofit.cli.compare import compare_command, parse_tolerance
-from rheofit.errors import ParameterError
+from rheofit.cli.compare import compare_command
 from rheofit.flow.predict import SAFETY_CAUTION
 
 SAMPLES = Path(__file__).resolve().parent.parent / "sample_data"
@@ -183,8 +182,3 @@ def test_lots_without_a_shared_range(tmp_path):
     message = one_error_line(run(low, high, *TUBE, "-q", "1 mL/min", *FAST))
     assert "share no shear-rate range" in message
 
-
-def test_parse_tolerance_directly():
-    assert parse_tolerance("2.5 %") == pytest.approx(0.025)
-    with pytest.raises(ParameterError, match="positive fraction"):
-        parse_tolerance("0")

@@ -2,8 +2,8 @@
 
 import pytest
 
-from rheofit.errors import UnitError
-from rheofit.units import is_unit_of, parse_quantity, to_si
+from rheofit.errors import ParameterError, UnitError
+from rheofit.units import is_unit_of, parse_quantity, parse_tolerance, to_si
 
 # Source: BIPM, The International System of Units (SI Brochure), 9th ed. (2019),
 # Table 8 (non-SI units): 1 P = 1 dyn s cm^-2 = 0.1 Pa s; hence 1 cP = 1 mPa s.
@@ -71,3 +71,10 @@ def test_unreadable_quantity_gives_example():
 def test_is_unit_of():
     assert is_unit_of("cP", "viscosity")
     assert not is_unit_of("cP", "stress")
+
+
+def test_parse_tolerance_directly():
+    # 1 % = 0.01 (BIPM SI Brochure, 9th ed. (2019), sec. 5.4.7; section from memory)
+    assert parse_tolerance("2.5 %") == pytest.approx(0.025)
+    with pytest.raises(ParameterError, match="positive fraction"):
+        parse_tolerance("0")

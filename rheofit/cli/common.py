@@ -58,12 +58,10 @@ def emit_json(document: dict, out: Optional[Path], force: bool) -> None:
         sys.stdout.write(text + "\n")
 
 
-_ROLES = ("shear_rate", "viscosity", "stress", "temperature")
-
-
 def read_overrides(columns: Optional[list[str]], units: Optional[list[str]]) -> dict:
     """--column/--unit 'role=value' pairs -> importer keywords (viscosity_unit=..., ...)."""
     from rheofit.errors import ParameterError, choice_message
+    from rheofit.ingest import ROLES
 
     overrides = {}
     for option, suffix, pairs in (("--column", "column", columns), ("--unit", "unit", units)):
@@ -72,8 +70,8 @@ def read_overrides(columns: Optional[list[str]], units: Optional[list[str]]) -> 
             role = role.strip().replace("-", "_").replace(" ", "_")
             if not found or not value.strip():
                 raise ParameterError(f"{option} '{pair}' should read ROLE=VALUE, e.g. {option} viscosity=...")
-            if role not in _ROLES:
-                raise ParameterError(choice_message(f"{option} role", role, _ROLES))
+            if role not in ROLES:
+                raise ParameterError(choice_message(f"{option} role", role, ROLES))
             overrides[f"{role}_{suffix}"] = value.strip()
     return overrides
 

@@ -17,23 +17,6 @@ from rheofit.cli.common import make_geometry, operating_point, user_errors
 from rheofit.cli.options import DIAMETER, FLOW_RATE, GAP, LENGTH, PRESSURE_DROP, WIDTH
 
 
-def parse_tolerance(text: str) -> float:
-    """'10%', '10 %' or '0.1' -> 0.1 (units parsed by rheofit.units); ParameterError otherwise."""
-    from rheofit.errors import ParameterError, UnitError
-    from rheofit.units import parse_quantity
-
-    try:
-        value = parse_quantity(text, "dimensionless")
-    except UnitError:
-        value = float("nan")
-    if not 0 < value < float("inf"):
-        raise ParameterError(
-            f"--tolerance '{text}' is not a positive fraction or percentage; write e.g. '10%', "
-            "'10 %' or '0.1'."
-        )
-    return value
-
-
 def pick_reference(text: str, labels) -> int:
     """--reference: a lot number counted from 1, or a lot name -> index from 0."""
     from rheofit.errors import ParameterError, choice_message
@@ -115,12 +98,14 @@ def compare_command(
 
     from rheofit.report.console_compare import comparison_block
     from rheofit.lots import lot_labels
-    from rheofit.errors import OutputExistsError, ParameterError
+    from rheofit.errors import ParameterError
+    from rheofit.output import refuse_existing
+    from rheofit.units import parse_tolerance
     from rheofit.models import get_model
 
-    if out is not None and out.exists() and not force:
-        raise OutputExistsError(f"Output file '{out}' already exists; choose another name or pass --force to overwrite it.")
-    fraction = parse_tolerance(tolerance)
+    if not force:
+        refuse_existing(out)
+    fraction = parse_tolerance(tolerance, "--tolerance")
     model = None if model is None else get_model(model).name
     channel = (diameter, gap, width, length, flow_rate, pressure_drop)
     if all(option is None for option in channel):  # the curves alone are compared

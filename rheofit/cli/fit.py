@@ -41,10 +41,10 @@ def fit_command(
     """Fit viscosity models to flow curves, with 95 % intervals and a ranking."""
     from rheofit.fitting.saved import fits_document
 
-    if out is not None and out.exists() and not force:
-        from rheofit.errors import OutputExistsError
+    from rheofit.output import refuse_existing
 
-        raise OutputExistsError(f"Output file '{out}' already exists; choose another name or pass --force to overwrite it.")
+    if not force:
+        refuse_existing(out)
     groups = fit_files(files, model, read_overrides(column, unit))
     document = fits_document(groups)
     if as_json:

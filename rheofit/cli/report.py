@@ -69,13 +69,13 @@ def report_command(
     """Write one self-contained HTML report: fits, flags, flow prediction, lot comparison, figures."""
     from rheofit.models import get_model
     from rheofit.jobs.analysis import analyse
-    from rheofit.output import make_folder
-    from rheofit.report.html import refuse_existing, write_report
+    from rheofit.output import make_folder, refuse_existing
+    from rheofit.report.html import write_report
     from rheofit.cli.progress import rich_steps
     from rheofit.units import parse_quantity
 
     if not force:
-        refuse_existing([out])
+        refuse_existing(out)
     if figures is not None:
         make_folder(figures)
     model = None if model is None else get_model(model).name

@@ -43,7 +43,8 @@ from rheofit.curve import Flag
 from rheofit.errors import FitError, ParameterError, choice_message
 from rheofit.fitting.problem import LogStressProblem
 from rheofit.fitting.result import Covariance, FitResult, ParameterEstimate
-from rheofit.fitting.statistics import floored_rss, information_criteria, profile_threshold, runs_test
+from rheofit.fitting.statistics import (akaike_weights, floored_rss, information_criteria,
+                                        profile_threshold, runs_test)
 from rheofit.fluid import Fluid
 from rheofit.models import MODELS, ViscosityModel, get_model
 
@@ -396,16 +397,9 @@ class FitRanking(list):
         self.skipped: tuple[tuple[str, str], ...] = tuple(skipped)
 
     def akaike_weights(self) -> list[float]:
-        """w_i = exp(-D_i/2) / sum_j exp(-D_j/2) with D_i = AICc_i - min AICc.
-
-        Burnham & Anderson (2002), sec. 2.9 (from memory).
-        """
-        aicc = np.array([r.aicc for r in self], dtype=float)
-        if not aicc.size or not np.isfinite(aicc).any():
-            return [math.nan] * len(aicc)
-        rel = np.exp(-0.5 * (aicc - np.nanmin(aicc[np.isfinite(aicc)])))
-        rel[~np.isfinite(aicc)] = 0.0
-        return (rel / rel.sum()).tolist()
+        """Akaike weights of the results, best first (see
+        :func:`rheofit.fitting.statistics.akaike_weights`)."""
+        return akaike_weights([r.aicc for r in self])
 
 
 def fit_all(curve, models=None, *, interval_method: str = "auto") -> FitRanking:

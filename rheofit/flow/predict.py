@@ -22,6 +22,7 @@ from rheofit.errors import GeometryError, ParameterError, UnitError
 from rheofit.fluid import Fluid, as_fluid
 from rheofit.flow import engine, regime
 from rheofit.flow.geometry import check_geometry
+from rheofit.output import json_safe
 from rheofit.units import parse_quantity
 
 #: the caution every flow output ends with (the CLI and reports reuse it)
@@ -139,18 +140,18 @@ class FlowPrediction:
         """Plain JSON-able dict: floats, lists (NaN as None), the profile as two lists."""
         out = {"geometry": self.geometry.to_dict(), "fluid": self.fluid.to_dict()}
         for name in self._ARRAYS:
-            out[name] = _plain(getattr(self, name))
+            out[name] = json_safe(getattr(self, name))
         for name in ("threshold_pressure_drop", "laminar_criterion", "newtonian_reference",
                      "zero_shear_viscosity", "density", "density_is_default", "tolerance"):
-            out[name] = _plain(getattr(self, name))
+            out[name] = json_safe(getattr(self, name))
         for name in self._INTERVALS:
             value = getattr(self, name)
-            out[name] = None if value is None else [_plain(value[0]), _plain(value[1])]
+            out[name] = None if value is None else [json_safe(value[0]), json_safe(value[1])]
         out["uncertainty_method"] = self.uncertainty_method
         out["uncertainty_samples"] = self.uncertainty_samples
         out["profile"] = {
-            "position": _plain(self.profile["position"].to_numpy()),
-            "velocity": _plain(self.profile["velocity"].to_numpy()),
+            "position": json_safe(self.profile["position"].to_numpy()),
+            "velocity": json_safe(self.profile["velocity"].to_numpy()),
         }
         out["flags"] = [flag.to_dict() for flag in self.flags]
         out["caution"] = SAFETY_CAUTION
@@ -178,18 +179,6 @@ class FlowPrediction:
             lines += [f"  - [{flag.code}] {flag.message}" for flag in self.flags]
         lines.append(SAFETY_CAUTION)
         return "\n".join(lines)
-
-
-def _plain(value):
-    """numpy / float values -> JSON-able Python values (NaN -> None)."""
-    if value is None or isinstance(value, (str, bool)):
-        return value
-    if isinstance(value, np.ndarray):
-        return [_plain(v) for v in value.tolist()]
-    if isinstance(value, (np.bool_,)):
-        return bool(value)
-    number = float(value)
-    return number if math.isfinite(number) else None
 
 
 def _scalar_lines(p: FlowPrediction) -> list[str]:

@@ -38,15 +38,13 @@ from rheofit.curve import FlowCurve
 from rheofit.errors import InputFileError
 from rheofit.ingest import preamble
 from rheofit.ingest.build import Context, Draft, block_drafts
-from rheofit.ingest.columns import assign_roles, make_columns
+from rheofit.ingest.columns import ROLES, assign_roles, make_columns
 from rheofit.ingest.dialect import Dialect, sniff
 from rheofit.ingest.layout import Block, Layout, find_layout, no_table
 from rheofit.ingest.source import read_lines
 from rheofit.ingest.table import Cells
 
-__all__ = ["read_flow_curve", "read_flow_curves", "sorted_by_shear_rate"]
-
-_ROLES = ("shear_rate", "viscosity", "stress", "temperature")
+__all__ = ["ROLES", "read_flow_curve", "read_flow_curves", "sorted_by_shear_rate"]
 
 
 def read_flow_curves(
@@ -87,8 +85,8 @@ def read_flow_curves(
     """
     path = Path(path)
     shown = str(path)
-    columns = dict(zip(_ROLES, (shear_rate_column, viscosity_column, stress_column, temperature_column)))
-    units = dict(zip(_ROLES, (shear_rate_unit, viscosity_unit, stress_unit, temperature_unit)))
+    columns = dict(zip(ROLES, (shear_rate_column, viscosity_column, stress_column, temperature_column)))
+    units = dict(zip(ROLES, (shear_rate_unit, viscosity_unit, stress_unit, temperature_unit)))
     lines, encoding = read_lines(path, shown)
     dialect = sniff(lines)
     if dialect is None:

@@ -15,12 +15,11 @@ import numpy as np
 
 from rheofit.curve import Flag
 from rheofit.errors import InputFileError, UnitError
-from rheofit.ingest.columns import UNIT_KINDS, Column
+from rheofit.ingest.columns import ROLES, UNIT_KINDS, Column
 from rheofit.ingest.sweep import describe, hysteresis, segments
 from rheofit.ingest.table import Cells
 from rheofit.units import is_unit_of, to_si
 
-NUMERIC_ROLES = tuple(UNIT_KINDS)
 #: stress and viscosity given together may differ from tau = eta * gamma_dot by this much [-]
 CONSISTENCY_TOLERANCE = 0.02
 #: temperatures further apart than this belong to different curves [K]
@@ -82,7 +81,7 @@ def block_drafts(cells: Cells, roles: dict[str, Column], context: Context) -> li
 def _units(cells: Cells, roles, context: Context) -> tuple[dict[str, str], list[Flag]]:
     """The unit of each numeric column: the caller's, the file's, or SI (flagged)."""
     units, flags = {}, []
-    for role in NUMERIC_ROLES:
+    for role in ROLES:
         column = roles.get(role)
         if column is None:
             continue

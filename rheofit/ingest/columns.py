@@ -20,8 +20,10 @@ from rheofit.errors import InputFileError
 from rheofit.ingest.dialect import is_number
 from rheofit.units import is_unit_of
 
-#: the roles whose values are read as numbers, with their unit kind in rheofit.units
-UNIT_KINDS = {"shear_rate": "shear_rate", "viscosity": "viscosity", "stress": "stress", "temperature": "temperature"}
+#: the roles whose values are read as numbers; a caller may name the column or unit of each
+ROLES = ("shear_rate", "viscosity", "stress", "temperature")
+#: each role's unit kind in rheofit.units (the same words)
+UNIT_KINDS = {role: role for role in ROLES}
 FLOW_ROLES = ("shear_rate", "viscosity", "stress")
 #: keyword that names each role's column in read_flow_curve
 OVERRIDES = {role: f"{role}_column" for role in UNIT_KINDS}

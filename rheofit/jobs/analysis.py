@@ -66,7 +66,11 @@ class CaseResult:
 
 @dataclass(frozen=True)
 class SampleResult:
-    """One flow curve: its fits (best first by AICc), the chosen fit and its flow cases."""
+    """One flow curve: its fits, the chosen fit and its flow cases.
+
+    ``ranking`` is the :class:`~rheofit.fitting.solve.FitRanking` (best first
+    by AICc, ``skipped`` lists the models not fitted and why).
+    """
 
     curve: object
     ranking: list
@@ -126,7 +130,7 @@ def predict_cases(chosen, cases, density=None) -> tuple[CaseResult, ...]:
 def analyse_sample(curve, *, model: str | None = None, cases=(), density=None) -> SampleResult:
     """Fit ``curve`` (every model, ranked) and predict each operating case."""
     ranking, chosen = fit_curve(curve, model)
-    return SampleResult(curve, list(ranking), chosen, predict_cases(chosen, cases, density))
+    return SampleResult(curve, ranking, chosen, predict_cases(chosen, cases, density))
 
 
 def compare_samples(samples, case: OperatingCase | None, *, model: str | None = None,

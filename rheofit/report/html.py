@@ -99,17 +99,6 @@ def report_files(path, analysis, figures_dir=None) -> list[Path]:
     return files
 
 
-def refuse_existing(files) -> None:
-    """Raise OutputExistsError naming the first file that exists."""
-    from rheofit.errors import OutputExistsError
-
-    for file in files:
-        if Path(file).exists():
-            raise OutputExistsError(
-                f"Output file '{file}' already exists; choose another name or pass --force to overwrite it."
-            )
-
-
 def write_report(path, analysis, *, figures_dir=None, force: bool = False,
                  steps: Steps | None = None) -> Path:
     """Write the report to ``path`` (atomically), and each figure as PNG and SVG into ``figures_dir``.
@@ -117,11 +106,11 @@ def write_report(path, analysis, *, figures_dir=None, force: bool = False,
     Nothing is overwritten without ``force``: the check runs before any
     work, and raises OutputExistsError naming the file.
     """
-    from rheofit.output import make_folder, write_atomic
+    from rheofit.output import make_folder, refuse_existing, write_atomic
     from rheofit.report import plots
 
     if not force:
-        refuse_existing(report_files(path, analysis, figures_dir))
+        refuse_existing(*report_files(path, analysis, figures_dir))
 
     def keep(key, fig, svg):
         plots.save_figure(fig, figures_dir, key, force=force, svg=svg)
