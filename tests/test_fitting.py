@@ -6,6 +6,7 @@ from __future__ import annotations
 import itertools
 import json
 import math
+from dataclasses import replace
 
 import numpy as np
 import pytest
@@ -180,6 +181,68 @@ def test_profile_threshold_is_the_squared_t_quantile():
     # Statistical Tables, Table III (from memory); F(1, d) = t(d)^2 (common practice, no source).
     assert profile_threshold(12, 2) == pytest.approx(1 + 2.228139 ** 2 / 10, rel=1e-6)
 
+
+
+# --- parameter correlations against the closed form of a straight line ----------------------
+
+def straight_line_correlation(x) -> float:
+    """corr(intercept, slope) of ordinary least squares with uncorrelated equal-variance errors.
+
+    Var(b0) = s^2 sum(x^2) / (N Sxx), Var(b1) = s^2 / Sxx, Cov(b0, b1) = -s^2 xbar / Sxx,
+    hence r = -xbar / sqrt(mean(x^2)).  Draper & Smith (1998) Applied Regression
+    Analysis, 3rd ed., Wiley, ch. 1 and 3 (variances and covariance of b0, b1) (from memory).
+    """
+    x = np.asarray(x, dtype=float)
+    return float(-x.mean() / math.sqrt(np.mean(x**2)))
+
+
+def test_power_law_correlation_is_the_straight_line_closed_form(power_law_fit):
+    # ln tau = ln K + n ln gamma_dot: intercept ln K (the fit's inner coordinate), slope n.
+    # The closed form depends on the shear rates only, not on the noise.
+    expected = straight_line_correlation(np.log(power_law_fit.shear_rate))
+    assert expected < -0.5  # 0.1 to 1000 1/s: xbar = ln 10 > 0, a strong negative correlation
+    matrix = power_law_fit.covariance.correlation()
+    assert matrix[0, 1] == pytest.approx(expected, abs=1e-6)
+    assert matrix[1, 0] == pytest.approx(expected, abs=1e-6)
+    assert np.diag(matrix) == pytest.approx([1.0, 1.0], abs=1e-12)
+    [(a, b, r)] = power_law_fit.correlations()
+    assert (a, b) == ("K", "n") and r == pytest.approx(expected, abs=1e-6)
+
+
+def test_shear_rates_centred_in_log_give_no_correlation():
+    # xbar = mean(ln gamma_dot) = 0 for rates symmetric about 1 1/s: r = 0 by the same
+    # closed form, so no pair is listed and the text report says so.
+    curve = synthetic("power_law", {"K": 2.0, "n": 0.6}, 0.01, 100.0, 21, 0.03, seed=5)
+    assert straight_line_correlation(np.log(curve.shear_rate)) == pytest.approx(0.0, abs=1e-12)
+    result = fit(curve, "power_law")
+    assert abs(result.covariance.correlation()[0, 1]) < 1e-6
+    assert result.correlations() == []
+    assert "Correlations of the estimates (|r| > 0.1)\n" in str(result)
+    assert "  none" in str(result).split("Correlations of the estimates")[1].split("Goodness")[0]
+
+
+def test_correlations_in_the_text_report(power_law_fit, unresolved_carreau):
+    [(a, b, r)] = power_law_fit.correlations()
+    assert f"{a}, {b}  {r:+.3f}" in str(power_law_fit)
+    pairs = unresolved_carreau.correlations()
+    section = str(unresolved_carreau).split("Correlations of the estimates")[1].split("Goodness")[0]
+    assert [abs(r) for *_, r in pairs] == sorted((abs(r) for *_, r in pairs), reverse=True)
+    assert all(abs(r) > 0.1 for *_, r in pairs)
+    for a, b, r in pairs:
+        assert f"{a}, {b}" in section and f"{r:+.3f}" in section
+
+
+def test_correlations_without_a_covariance_and_for_one_parameter(power_law_fit):
+    no_covariance = replace(power_law_fit, covariance=replace(power_law_fit.covariance, matrix=None))
+    assert no_covariance.correlations() is None
+    assert "not available: the fit gave no covariance" in str(no_covariance)
+    newtonian = fit(synthetic("newtonian", {"mu": 0.05}, 0.1, 1e3, 12, seed=2), "newtonian")
+    assert newtonian.correlations() == [] and "Correlations" not in str(newtonian)
+
+
+def test_correlations_survive_the_json_round_trip(power_law_fit):
+    back = FitResult.from_dict(json.loads(json.dumps(power_law_fit.to_dict())))
+    assert back.correlations() == power_law_fit.correlations()  # JSON keeps every float digit
 
 # --- unresolved parameters -------------------------------------------------------------
 

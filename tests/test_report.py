@@ -117,6 +117,19 @@ def test_the_fit_table_has_the_ranking_and_the_interval_columns(analysis, report
             assert (number(high) if high is not None else "open") in text
 
 
+
+def test_the_chosen_fit_s_correlations_are_listed(analysis, report):
+    # the pairs and values of FitResult.correlations (checked against the straight-line
+    # closed form in test_fitting); here: each one is in the report, largest first
+    text = "".join(parse(report).text)
+    assert "correlation r" in text
+    for sample in analysis.samples:
+        pairs = sample.chosen.correlations()
+        assert pairs  # the four-parameter fits of lots A and C have correlated estimates
+        cells = [f"{a} and {b}{r:+.3f}" for a, b, r in pairs]
+        places = [text.index(cell) for cell in cells]
+        assert places == sorted(places)
+
 def test_flags_appear_in_plain_words(analysis, report):
     messages = [f.message for s in analysis.samples for f in s.chosen.flags]
     messages += [f.message for s in analysis.samples for c in s.cases for f in c.prediction.flags]

@@ -3,7 +3,8 @@
 - :mod:`~rheofit.fitting.problem`: the log-space least-squares problem and its parametrisation
 - :mod:`~rheofit.fitting.solve`: :func:`fit` one model, :func:`fit_all` ranked by AICc
 - :mod:`~rheofit.fitting.intervals`: profile-likelihood and Wald interval ends
-- :mod:`~rheofit.fitting.statistics`: AICc/BIC, the profile threshold, the runs test
+- :mod:`~rheofit.fitting.statistics`: AICc/BIC, Akaike weights, the profile threshold, the runs test,
+  parameter correlations
 - :mod:`~rheofit.fitting.result`: FitResult and its parts (to_dict/from_dict)
 - :mod:`~rheofit.fitting.text`: a fit's sectioned text report
 - :mod:`~rheofit.fitting.draws`: parameter draws that carry a fit's uncertainty, viscosity bands

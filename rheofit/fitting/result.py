@@ -19,6 +19,7 @@ import numpy as np
 
 from rheofit.curve import Flag
 from rheofit.errors import FitError
+from rheofit.fitting.statistics import CORRELATION_SHOWN_ABOVE, correlated_pairs, correlation_matrix
 from rheofit.fitting.text import text_report
 from rheofit.fluid import Fluid
 from rheofit.markup import join, key_values, table, tag
@@ -108,6 +109,16 @@ class Covariance:
         return {n: (np.exp(x[..., i]) if lg else x[..., i])
                 for i, (n, lg) in enumerate(zip(self.names, self.logged))}
 
+    def correlation(self) -> np.ndarray | None:
+        """Correlation matrix of x [-] (None without a covariance).
+
+        It is also, to first order, the correlation of the SI values: each
+        SI value is an increasing function of its own coordinate alone
+        (v = exp(x) or v = x), so the delta method scales row and column i
+        by dv_i/dx_i > 0, which leaves every r_ij unchanged.
+        """
+        return None if self.matrix is None else correlation_matrix(self.matrix)
+
     def to_dict(self) -> dict:
         matrix = None
         if self.matrix is not None:
@@ -176,6 +187,19 @@ class FitResult:
     def flags_with(self, code: str) -> tuple[Flag, ...]:
         """The flags with a given code."""
         return tuple(f for f in self.flags if f.code == code)
+
+    def correlations(self, above: float = CORRELATION_SHOWN_ABOVE):
+        """Parameter pairs ``(a, b, r)`` with |r| > ``above``, largest first; None without a covariance.
+
+        r is the correlation of the estimates from the covariance at the
+        optimum (see :meth:`Covariance.correlation`: the same in the internal
+        and the SI parametrisation, to first order).  A correlation near +/-1
+        means the data fix a combination of the two rather than each one.
+        """
+        matrix = self.covariance.correlation()
+        if matrix is None:
+            return None
+        return correlated_pairs(self.covariance.names, matrix, above)
 
     # --- JSON -----------------------------------------------------------------
 

@@ -93,6 +93,44 @@ def akaike_weights(aicc) -> list[float]:
     return (rel / rel.sum()).tolist()
 
 
+#: correlations at or below this size [-] are left out of the reports (the
+#: default ``min_correl=0.1`` of lmfit's ``fit_report``, lmfit documentation)
+CORRELATION_SHOWN_ABOVE = 0.1
+
+
+def correlation_matrix(covariance) -> np.ndarray:
+    """Correlation matrix of a covariance matrix [-]::
+
+        r_ij = C_ij / sqrt(C_ii C_jj)
+
+    A parameter whose variance is not positive and finite has nan in its row
+    and column.
+
+    >>> correlation_matrix([[4.0, -2.0], [-2.0, 4.0]]).tolist()
+    [[1.0, -0.5], [-0.5, 1.0]]
+    """
+    c = np.asarray(covariance, dtype=float)
+    variance = np.diag(c)
+    usable = np.isfinite(variance) & (variance > 0)
+    sd = np.where(usable, np.sqrt(np.where(usable, variance, 1.0)), np.nan)
+    return c / np.outer(sd, sd)
+
+
+def correlated_pairs(names, correlation, above: float = CORRELATION_SHOWN_ABOVE):
+    """``[(name_i, name_j, r_ij)]`` for i < j with |r_ij| > ``above``, largest |r| first.
+
+    Pairs whose correlation is not finite are left out.
+
+    >>> correlated_pairs(("a", "b", "c"), [[1, 0.05, -0.9], [0.05, 1, 0.3], [-0.9, 0.3, 1]])
+    [('a', 'c', -0.9), ('b', 'c', 0.3)]
+    """
+    r = np.asarray(correlation, dtype=float)
+    pairs = [(names[i], names[j], float(r[i, j]))
+             for i in range(len(names)) for j in range(i + 1, len(names))
+             if math.isfinite(r[i, j]) and abs(r[i, j]) > above]
+    return sorted(pairs, key=lambda pair: -abs(pair[2]))
+
+
 def profile_threshold(n_points: int, n_params: int, level: float = 0.95) -> float:
     """Ratio RSS_profile / RSS_min at the edge of a profile-likelihood interval.
 

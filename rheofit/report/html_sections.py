@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 
-from rheofit.fitting.statistics import akaike_weights
+from rheofit.fitting.statistics import CORRELATION_SHOWN_ABOVE, akaike_weights
 from rheofit.report.display import number, shown
 from rheofit.report.html_parts import Raw, bullets, esc, join, key_values, percent, table, tag
 
@@ -112,7 +112,7 @@ def not_fitted(sample) -> Raw:
     skipped = sample.ranking.skipped
     if not skipped:
         return Raw("")
-    return join(tag("p", "Not fitted:", class_="quiet"),
+    return join(tag("p", "Not fitted:"),
                 bullets([join(tag("strong", name), Raw(": "), why) for name, why in skipped]))
 
 
@@ -132,6 +132,22 @@ def parameter_table(fit) -> Raw:
                  caption="'open': the data do not bound the parameter on that side.")
 
 
+def correlation_table(fit) -> Raw:
+    """Pairs of the chosen model's estimates with |r| above the threshold (nothing for one parameter)."""
+    if fit.n_params < 2:
+        return Raw("")
+    pairs = fit.correlations()
+    if not pairs:
+        why = "the fit gave no covariance" if pairs is None else f"no pair has |r| > {CORRELATION_SHOWN_ABOVE:g}"
+        return tag("p", f"Correlations of the estimates: {why}.", class_="quiet")
+    rows = [[f"{a} and {b}", f"{r:+.3f}"] for a, b, r in pairs]
+    return table(["parameters", "correlation r"], rows,
+                 caption=f"Correlations of the estimates with |r| > {CORRELATION_SHOWN_ABOVE:g}, "
+                         "largest first: first order, from the covariance at the optimum (the same for "
+                         "the SI values and the log coordinates the fit uses inside). |r| near 1: the "
+                         "data fix a combination of the two rather than each one.")
+
+
 def _sample_flags(sample) -> Raw:
     messages = [f.message for f in sample.curve.flags] + [f.message for f in sample.chosen.flags]
     return bullets(messages, empty="No flags: the data and the chosen fit raised no warning.")
@@ -147,6 +163,7 @@ def sample_section(i: int, sample, placed: dict) -> Raw:
         tag("h3", f"Chosen model: {fit.declaration.title}"),
         tag("p", join(tag("code", fit.declaration.equation), Raw(" — "), fit.declaration.reference)),
         tag("div", parameter_table(fit), class_="scroll"),
+        correlation_table(fit),
         tag("h3", "Flags"), _sample_flags(sample),
         _figures(placed.get(("sample", i), [])),
     ]
