@@ -223,6 +223,10 @@ def test_a_fit_shows_as_an_escaped_table_in_a_notebook(hostile):
     for p in best.params.values():
         assert f"{p.value:.4g}" in text and p.interval_text() in text
     assert f"{best.aicc:.4g}" in text
+    pairs = best.correlations()
+    assert pairs  # this Carreau fit has correlated estimates
+    for a, b, r in pairs:  # listed as the text report lists them
+        assert f"{a}, {b}" in text and f"{r:+.3f}" in text
 
 
 def test_a_prediction_shows_as_an_escaped_table_with_the_caution(hostile):

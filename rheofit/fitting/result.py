@@ -294,7 +294,20 @@ def _html(fit: FitResult) -> str:
     return join(tag("p", tag("strong", head)),
                 table(["parameter", "value", "unit", "95 % interval", "resolved", "note"], rows,
                       caption=f"95 % intervals: {methods}"),
-                key_values(facts), flags)
+                _html_correlations(fit), key_values(facts), flags)
+
+
+def _html_correlations(fit: FitResult) -> str:
+    """The pairs of estimates with |r| above the reports' threshold ("" for one parameter)."""
+    if fit.n_params < 2:
+        return ""
+    pairs = fit.correlations()
+    caption = f"correlations of the estimates with |r| > {CORRELATION_SHOWN_ABOVE:g}"
+    if pairs is None:
+        return tag("p", caption + ": not available (the fit gave no covariance)")
+    if not pairs:
+        return tag("p", caption + ": none")
+    return table(["parameters", "r"], [[f"{a}, {b}", f"{r:+.3f}"] for a, b, r in pairs], caption=caption)
 
 
 def _flag_dict(flag: Flag) -> dict:
