@@ -443,8 +443,11 @@ def tiny_curve(n=4, name="tiny"):
 
 
 def test_too_few_points():
-    with pytest.raises(FitError, match=r"needs at least 5 points, the curve 'tiny' has 4"):
-        fit(tiny_curve(4), "carreau")
+    # AICc = AIC + 2k(k+1)/(N-k-1) is undefined at N = k + 1 (Burnham & Anderson 2002, sec. 2.4,
+    # from memory): a model needs k + 2 points to be fitted and ranked
+    with pytest.raises(FitError, match=r"needs at least 6 points .*the curve 'tiny' has 5"):
+        fit(tiny_curve(5), "carreau")
+    assert math.isfinite(fit(tiny_curve(4), "power_law").aicc)
 
 
 @pytest.mark.parametrize("column,bad,word", [
@@ -512,8 +515,9 @@ def test_unstable_optimum_is_a_fit_error(monkeypatch):
 def test_fit_all_skips_what_it_cannot_fit():
     ranking = fit_all(tiny_curve(4), list(MODELS.values()) + [NAN_MODEL])
     skipped = dict(ranking.skipped)
-    assert {"carreau", "carreau_yasuda", "cross", "nan_model"} == set(skipped)
-    assert "needs at least 5 points" in skipped["carreau"]
+    assert {"carreau", "carreau_yasuda", "cross", "sisko", "herschel_bulkley", "nan_model"} == set(skipped)
+    assert "needs at least 6 points" in skipped["carreau"]
+    assert "needs at least 5 points" in skipped["sisko"]
     assert {r.model for r in ranking} == set(MODELS) - set(skipped)
 
 

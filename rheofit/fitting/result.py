@@ -20,6 +20,7 @@ import numpy as np
 from rheofit.curve import Flag
 from rheofit.errors import FitError
 from rheofit.fitting.statistics import CORRELATION_SHOWN_ABOVE, correlated_pairs, correlation_matrix
+from rheofit.fitting.support import ModelSupport
 from rheofit.fitting.text import text_report
 from rheofit.fluid import Fluid
 from rheofit.markup import join, key_values, table, tag
@@ -146,6 +147,9 @@ class FitResult:
     about its mean - flattering, since stress grows with shear rate whatever
     the model: rank models by ``aicc`` instead.  ``aic``, ``aicc`` and ``bic``
     follow :func:`rheofit.fitting.statistics.information_criteria`.
+    ``support`` (a :class:`~rheofit.fitting.support.ModelSupport`) holds the
+    Akaike weight and rank among the models fitted to the same curve, None
+    when no ranking was made (a single ``fit``, or a fit saved before).
     """
 
     model: str
@@ -168,6 +172,7 @@ class FitResult:
     flags: tuple[Flag, ...] = ()
     name: str = ""
     source: str = ""
+    support: ModelSupport | None = None
 
     # --- use ----------------------------------------------------------------
 
@@ -225,6 +230,7 @@ class FitResult:
                                  if self.shear_rate_range else None),
             "n_points": int(self.n_points),
             "n_params": int(self.n_params),
+            "support": None if self.support is None else self.support.to_dict(),
             "flags": [_flag_dict(f) for f in self.flags],
             "covariance": self.covariance.to_dict(),
             "shear_rate": [finite_or_none(v) for v in self.shear_rate],
@@ -263,6 +269,7 @@ class FitResult:
             r_squared_log=_float(d.get("r_squared_log")),
             residuals=_array(d.get("residuals")), shear_rate=_array(d.get("shear_rate")),
             covariance=covariance, flags=flags, name=name, source=str(d.get("source", "")),
+            support=ModelSupport.from_dict(d.get("support")),
         )
 
     # --- text -------------------------------------------------------------------
@@ -288,6 +295,8 @@ def _html(fit: FitResult) -> str:
     methods = ", ".join(sorted({p.method for p in fit.params.values()}))
     facts = [("AICc", f"{fit.aicc:.4g}"), ("BIC", f"{fit.bic:.4g}"),
              ("rms of the log residuals", f"{fit.rms_log_residual:.3g}"), ("points", str(fit.n_points))]
+    if fit.support is not None:
+        facts.append(("among the models", fit.support.text()))
     if fit.shear_rate_range:
         facts.append(("shear rate [1/s]", "{:.3g} to {:.3g}".format(*fit.shear_rate_range)))
     flags = table(["flag", "message"], [[f.code, f.message] for f in fit.flags]) if fit.flags else ""

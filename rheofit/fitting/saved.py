@@ -92,11 +92,25 @@ def load_fit(path, model: str | None = None, curve=None):
     if not fits:
         raise InputFileError(f"Saved fit '{path}' holds no fitted model for {label}; fit it again with `rheofit fit`.")
     if model is None:
-        return FitResult.from_dict(fits[0])
+        return _supported(FitResult.from_dict(fits[0]), fits)
     for fitted in fits:
         if fitted["model"] == model:
-            return FitResult.from_dict(fitted)
+            return _supported(FitResult.from_dict(fitted), fits)
     raise ModelNameError(
         f"Model '{model}' was not saved in '{path.name}'; saved models: "
         f"{', '.join(f['model'] for f in fits)}. Fit it with `rheofit fit DATA.csv --model {model}`."
     )
+
+
+def _supported(result, fits: list):
+    """``result`` with its Akaike weight and rank; a fit saved without them (an older file)
+    gets them from the AICc of the fits saved beside it."""
+    from dataclasses import replace
+
+    from rheofit.fitting.result import FitResult
+    from rheofit.fitting.support import with_support
+
+    if result.support is not None or len(fits) < 2:
+        return result
+    ranked = with_support([FitResult.from_dict(f) for f in fits])
+    return next((replace(result, support=r.support) for r in ranked if r.model == result.model), result)

@@ -22,6 +22,12 @@ Method
   (:func:`rheofit.fitting.statistics.information_criteria`); a Wald-Wolfowitz runs
   test on the residual signs ordered by shear rate flags a systematic
   misfit.
+* Enough points: a model with k parameters is fitted only with N >= k + 2
+  points (AICc is undefined at N = k + 1); fewer than 5 per parameter flags
+  ``few_points``; a ranking on fewer than 8 points says so
+  (:mod:`rheofit.fitting.support`, where the rules are explained together).
+  Every fit :func:`fit_all` ranks carries its Akaike weight and rank
+  (``FitResult.support``).
 
 >>> import numpy as np
 >>> from rheofit.curve import FlowCurve
@@ -45,6 +51,7 @@ from rheofit.fitting.problem import LogStressProblem
 from rheofit.fitting.result import Covariance, FitResult, ParameterEstimate
 from rheofit.fitting.statistics import (akaike_weights, floored_rss, information_criteria,
                                         profile_threshold, runs_test)
+from rheofit.fitting.support import MIN_SPARE_POINTS, ranking_caveat, with_support
 from rheofit.fluid import Fluid
 from rheofit.models import MODELS, ViscosityModel, get_model
 
@@ -116,11 +123,12 @@ def _checked_data(curve) -> tuple[np.ndarray, np.ndarray]:
 
 def _check_enough_points(declaration: ViscosityModel, curve) -> None:
     k, n = len(declaration.parameters), len(curve.shear_rate)
-    if n < k + 1:
+    if n < k + MIN_SPARE_POINTS:
         raise FitError(
-            f"The {declaration.name} model has {k} parameters and needs at least {k + 1} points, "
-            f"the curve '{_label(curve)}' has {n}. Measure more shear rates or choose a model "
-            f"with fewer parameters."
+            f"The {declaration.name} model has {k} parameters and needs at least "
+            f"{k + MIN_SPARE_POINTS} points (k+2: with fewer its AICc is undefined, so it cannot be "
+            f"ranked), the curve '{_label(curve)}' has {n}. Measure more shear rates or choose a "
+            f"model with fewer parameters."
         )
 
 
@@ -342,7 +350,7 @@ def fit(curve, model, *, interval_method: str = "auto") -> FitResult:
     Raises
     ------
     FitError
-        Fewer points than parameters + 1, a non-positive or non-finite value,
+        Fewer points than parameters + 2, a non-positive or non-finite value,
         or a fit that cannot be carried out.
     ModelNameError, ParameterError
         Unknown model name or interval method.
@@ -396,6 +404,12 @@ class FitRanking(list):
         super().__init__(results)
         self.skipped: tuple[tuple[str, str], ...] = tuple(skipped)
 
+    @property
+    def caveat(self) -> str:
+        """What a ranking on few points, or of one model only, cannot say ("" when nothing)."""
+        n = self[0].n_points if self else 0
+        return ranking_caveat(n, [r.model for r in self], [name for name, _ in self.skipped])
+
     def akaike_weights(self) -> list[float]:
         """Akaike weights of the results, best first (see
         :func:`rheofit.fitting.statistics.akaike_weights`)."""
@@ -427,8 +441,10 @@ def fit_all(curve, models=None, *, interval_method: str = "auto") -> FitRanking:
     """Fit several models and rank them by AICc, best first.
 
     ``models`` defaults to every model in :data:`rheofit.models.MODELS`.  A
-    model with more parameters than the curve's points - 1, or whose fit
-    fails, is skipped and listed in ``.skipped`` with the reason.
+    model with k parameters on fewer than k + 2 points (its AICc is
+    undefined), or whose fit fails, is skipped and listed in ``.skipped``
+    with the reason.  Each result carries its Akaike weight and rank
+    (``support``); ``.caveat`` says what a thin ranking cannot tell.
 
     Raises FitError for bad data (non-positive values) or when no model at
     all could be fitted; ModelNameError for an unknown model name.
@@ -446,5 +462,4 @@ def fit_all(curve, models=None, *, interval_method: str = "auto") -> FitRanking:
     if not results:
         reasons = " ".join(reason for _, reason in skipped)
         raise FitError(f"No model could be fitted to curve '{_label(curve)}'. {reasons}")
-    results.sort(key=lambda r: (not math.isfinite(r.aicc), r.aicc))
-    return FitRanking(results, skipped)
+    return FitRanking(with_support(results, skipped), skipped)

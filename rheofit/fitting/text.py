@@ -61,6 +61,9 @@ def _goodness(result) -> list[str]:
     lines.append(f"  AICc               {_g(result.aicc, '.2f')}")
     lines.append(f"  BIC                {_g(result.bic, '.2f')}")
     lines.append(f"  k = {result.n_params} parameters, N = {result.n_points} points")
+    support = getattr(result, "support", None)
+    if support is not None:
+        lines.append(f"  among the models   {support.text()}")
     return lines
 
 

@@ -74,6 +74,12 @@ class FlowPrediction:
     interval (low, high), floats or arrays shaped like the input;
     ``uncertainty_method`` (text) and ``uncertainty_samples`` (Monte Carlo
     draws), see :mod:`rheofit.flow.intervals`.
+
+    Evidence (a prediction from a fit result; None otherwise): ``evidence``,
+    a :class:`rheofit.fitting.evidence.Evidence` (the model's misfit, runs
+    test, Akaike weight, unresolved parameters), shown in the headline
+    (:mod:`rheofit.flow.headline`) with ``solved_for`` ("pressure_drop" or
+    "flow_rate") and the extrapolation.
     """
 
     geometry: object
@@ -111,6 +117,8 @@ class FlowPrediction:
     wall_shear_rate_ci95: tuple | None = None
     uncertainty_method: str | None = None
     uncertainty_samples: int | None = None
+    evidence: object = None
+    solved_for: str = ""
 
     #: the interval fields, in the order shown
     _INTERVALS = ("pressure_drop_ci95", "flow_rate_ci95", "wall_shear_stress_ci95",
@@ -150,6 +158,9 @@ class FlowPrediction:
             out[name] = None if value is None else [json_safe(value[0]), json_safe(value[1])]
         out["uncertainty_method"] = self.uncertainty_method
         out["uncertainty_samples"] = self.uncertainty_samples
+        out["solved_for"] = self.solved_for
+        out["evidence"] = None if self.evidence is None else self.evidence.to_dict()
+        out["headline"] = self.headline().lines()
         out["profile"] = {
             "position": json_safe(self.profile["position"].to_numpy()),
             "velocity": json_safe(self.profile["velocity"].to_numpy()),
@@ -165,10 +176,23 @@ class FlowPrediction:
         """A compact HTML table for notebooks (every user string escaped)."""
         return _html(self)
 
+    def headline(self, show=None):
+        """The warning, the answer with its 95 % interval, the extrapolation and the evidence
+        (:func:`rheofit.flow.headline.headline`; ``show(value, kind)`` formats values)."""
+        from rheofit.flow import headline
+
+        return headline.headline(self, show or headline.si)
+
     def text(self) -> str:
-        """Readable report: operating point(s), regime, Newtonian comparison, flags, caution."""
+        """Readable report: headline, operating point(s), regime, Newtonian comparison, flags, caution."""
         label = f" '{self.fluid.name}'" if self.fluid.name else ""
         lines = [f"Flow of {self.fluid.model}{label} in a {self.geometry.describe()}"]
+        top = self.headline()
+        lines += [f"WARNING: {top.warning}"] if top.warning else []
+        lines += [f"  {part}" for part in (top.answer, top.reach, top.evidence) if part]
+        if np.ndim(self.pressure_drop) == 0 and not bool(self.flowing):
+            lines.append(SAFETY_CAUTION)  # a sample at rest: the threshold is the whole answer
+            return "\n".join(lines)
         lines += _scalar_lines(self) if np.ndim(self.pressure_drop) == 0 else _table_lines(self)
         lines.append(f"  laminar criterion: {self.laminar_criterion}")
         lines.append(f"  Newtonian reference viscosity: {self.newtonian_reference}")
@@ -258,6 +282,13 @@ def _html(p: FlowPrediction, shown: int = 12) -> str:
     """The prediction as a compact HTML block: quantities (or a table of points), flags, caution."""
     label = f" '{p.fluid.name}'" if p.fluid.name else ""
     parts = [tag("p", tag("strong", f"Flow of {p.fluid.model}{label} in a {p.geometry.describe()}"))]
+    top = p.headline()
+    if top.warning:
+        parts.append(tag("p", tag("strong", "Warning: " + top.warning)))
+    parts += [tag("p", part) for part in (top.answer, top.reach, top.evidence) if part]
+    if np.ndim(p.pressure_drop) == 0 and not bool(p.flowing):
+        parts.append(tag("p", SAFETY_CAUTION))
+        return join(*parts)
     if np.ndim(p.pressure_drop) == 0:
         pairs = [(name, f"{float(value):.4g} {unit}") for name, value, unit in _quantities(p)]
         pairs.append(("laminar", "yes" if p.laminar else "no"))
@@ -468,7 +499,20 @@ def predict(fluid_or_fit, geometry, flow_rate=None, pressure_drop=None, density=
                            uncertainty, samples, seed)
     prediction = _assemble(fluid, geometry, state, given.shape, density, is_default,
                            newtonian_viscosity, tolerance, profile_points)
+    prediction = _with_evidence(prediction, fluid_or_fit, "pressure_drop" if flow_rate is not None else "flow_rate")
     return prediction if intervals is None else _with_intervals(prediction, intervals, given.shape)
+
+
+def _with_evidence(prediction: FlowPrediction, source, solved_for: str) -> FlowPrediction:
+    """The prediction with the evidence of the fit behind it (its warnings first among the flags)."""
+    from rheofit.fitting import draws
+    from rheofit.fitting.evidence import Evidence
+
+    if not draws.is_fit(source):
+        return replace(prediction, solved_for=solved_for)
+    evidence = Evidence.of(source)
+    return replace(prediction, evidence=evidence, solved_for=solved_for,
+                   flags=tuple(evidence.flags) + prediction.flags)
 
 
 def _intervals(source, geometry, state, flow_rate_given: bool, method, uncertainty, samples, seed):
@@ -514,7 +558,7 @@ def _assemble(fluid, geometry, state, shape, density, is_default, newtonian_visc
     if eta0 is not None:
         zero_dp, zero_ratio = _comparison(geometry, np.full(q.shape, eta0), apparent, dp, flowing)
     reynolds = regime.reynolds_number(geometry, density, q, state.wall_shear_stress)
-    critical = regime.critical_reynolds(fluid, geometry, state.wall_shear_stress, state.wall_shear_rate, q)
+    critical = regime.laminar_limit(fluid, geometry, density, state.wall_shear_stress, state.wall_shear_rate, q)
     with np.errstate(invalid="ignore"):
         laminar = ~(reynolds >= critical)
     threshold = float(geometry.pressure_drop(fluid.yield_stress))
