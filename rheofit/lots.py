@@ -57,8 +57,11 @@ NARROW_SHARED_RATIO = 10.0
 #: from memory)
 MISFIT_AICC = 10.0
 #: flags of the fits and predictions that a comparison passes on, per lot
-LOT_FLAGS = ("unresolved", "residual_pattern", "at_bound", "few_points", "extrapolation",
-             "not_laminar", "no_flow", "interval_unreliable")
+LOT_FLAGS = ("forced_model", "sole_model", "thin_ranking", "unresolved", "residual_pattern", "at_bound",
+             "few_points", "extrapolation", "not_laminar", "no_flow", "interval_unreliable")
+#: the evidence columns of the table, shown beside every verdict
+EVIDENCE_COLUMNS = ("rms_log_residual", "runs_p_value", "akaike_weight", "extrapolation", "unresolved",
+                    "forced_model")
 
 _QUANTITY = {"flow_rate": "pressure_drop", "pressure_drop": "flow_rate"}
 _WORDS = {"pressure_drop": "pressure drop", "flow_rate": "flow rate"}
@@ -83,7 +86,13 @@ class Comparison:
         ``lot``, each parameter with ``_low``/``_high``, the solved quantity
         with its interval, ``wall_shear_rate``, ``deviation``,
         ``max_viscosity_deviation``, ``max_viscosity_deviation_at``,
-        ``within_tolerance``, ``failed`` and ``verdict``)
+        ``within_tolerance``, ``failed`` and ``verdict``; and the evidence
+        of each lot's fit: ``rms_log_residual``, ``runs_p_value``,
+        ``akaike_weight`` (among the models fitted to that lot),
+        ``extrapolation`` (the factor by which the wall shear rate lies
+        outside the lot's measured range; 1 inside), ``unresolved``
+        (parameter names) and ``forced_model`` (the data reject the given
+        model for that lot))
     p_value : of the same-curve F test (nan when it could not be made);
         ``same_curve`` holds F, its degrees of freedom and the RSS values
     reference : index of the reference lot
@@ -110,6 +119,31 @@ class Comparison:
     geometry: object
     operating_point: dict
     flags: tuple[Flag, ...] = field(default=())
+
+    @property
+    def warning(self) -> str | None:
+        """One line to show BEFORE the numbers: the lots whose data reject the given model."""
+        rejected = [self.lots[i] for i, f in enumerate(self.fits) if f.flags_with("forced_model")]
+        if not rejected:
+            return None
+        return (f"The data of {', '.join(repr(n) for n in rejected)} reject the given {self.model} model "
+                "(Akaike weight below 0.01 among the models fitted to the lot, or a residual pattern); "
+                "its numbers there are not supported by the measurements.")
+
+    def evidence(self, i: int, show=None) -> str:
+        """The evidence behind lot ``i``'s verdict in one line: the answer with its 95 % interval
+        and where its wall shear rate lies (with an operating point), the fit's misfit, runs test,
+        Akaike weight and unresolved parameters.  ``show(value, kind)`` formats the values (SI by
+        default)."""
+        from rheofit.fitting.evidence import Evidence
+
+        parts = []
+        if self.predictions:
+            from rheofit.flow.headline import answer, reach, si
+
+            p = self.predictions[i]
+            parts += [part for part in (answer(p, show or si), reach(p)) if part]
+        return "; ".join(parts + [Evidence.of(self.fits[i]).line()])
 
     @property
     def solved(self) -> str | None:
@@ -149,7 +183,7 @@ class Comparison:
         """Readable report: set-up, the test, one block per lot, flags, caution."""
         from rheofit.flow.predict import SAFETY_CAUTION
 
-        lines = _heading_lines(self) + [""]
+        lines = ([f"WARNING: {self.warning}"] if self.warning else []) + _heading_lines(self) + [""]
         for i, row in enumerate(self.table.to_dict(orient="records")):
             lines += _lot_lines(self, i, row)
         if self.flags:
@@ -180,7 +214,7 @@ def _html_row(c: Comparison, i: int, row: dict) -> list[str]:
     if c.solved:
         q = c.solved
         cells += [f"{row[q]:.4g} ({row[q + '_low']:.4g} to {row[q + '_high']:.4g})", _pct(row["deviation"])]
-    return cells + [_pct(row["max_viscosity_deviation"]), row["verdict"]]
+    return cells + [_pct(row["max_viscosity_deviation"]), row["verdict"], c.evidence(i)]
 
 
 def _html(c: Comparison) -> str:
@@ -193,11 +227,12 @@ def _html(c: Comparison) -> str:
     headers = ["lot", *units]
     if c.solved:
         headers += [f"{_WORDS[c.solved]} [{_UNITS[c.solved]}] (95 %)", "deviation"]
-    headers += ["largest viscosity deviation", "verdict"]
+    headers += ["largest viscosity deviation", "verdict", "evidence"]
     rows = [_html_row(c, i, row) for i, row in enumerate(c.table.to_dict(orient="records"))]
     test = (f"same-curve test: p = {c.p_value:.3g}" if math.isfinite(c.p_value)
             else "same-curve test: not available")
-    parts = [tag("p", tag("strong", head)), table(headers, rows, caption=test)]
+    parts = [tag("p", tag("strong", "Warning: " + c.warning))] if c.warning else []
+    parts += [tag("p", tag("strong", head)), table(headers, rows, caption=test)]
     if c.flags:
         parts.append(table(["flag", "message"], [[f.code, f.message] for f in c.flags]))
     parts.append(tag("p", SAFETY_CAUTION))
@@ -243,6 +278,7 @@ def _lot_lines(c: Comparison, i: int, row: dict) -> list[str]:
     lines.append(f"  largest viscosity deviation over the shared range: "
                  f"{_pct(row['max_viscosity_deviation'])} at {row['max_viscosity_deviation_at']:.3g} 1/s")
     lines.append(f"  verdict: {row['verdict']}")
+    lines.append(f"  evidence: {c.evidence(i)}")
     return lines
 
 
@@ -359,18 +395,20 @@ def _choose_model(curves, labels, progress):
 
 
 def _fits(curves, labels, model, progress):
-    from rheofit.fitting import fit
     from rheofit.models import get_model
 
     if model is None:
         best, totals, rankings = _choose_model(curves, labels, progress)
         fits = [next(r for r in ranking if r.model == best) for ranking in rankings]
         return fits, best, "best by AICc summed over the lots", totals, rankings
+    from rheofit.fitting import fit_all
+    from rheofit.fitting.support import choose
+
     declaration = get_model(model)
     fits = []
-    for i, curve in enumerate(curves):
-        progress(f"fitting {declaration.name} to '{labels[i]}'")
-        fits.append(fit(curve, declaration))
+    for i, curve in enumerate(curves):  # every model: the given one's weight among them
+        progress(f"fitting {declaration.name} (and the others, to judge it) to '{labels[i]}'")
+        fits.append(choose(fit_all(curve), declaration.name))
     return fits, declaration.name, "given", {}, None
 
 
@@ -505,11 +543,29 @@ def _table(labels, fits, predictions, solved, reference, shared, tolerance):
         row["max_viscosity_deviation"] = curve_dev
         row["max_viscosity_deviation_at"] = at
         failed, verdict = _verdict(solved, deviation, curve_dev, at, tolerance, gamma_w, shared)
+        row.update(_evidence_cells(f, predictions[i] if solved else None))
         row["within_tolerance"] = failed == ""
         row["failed"] = failed
         row["verdict"] = "reference lot" if i == reference else verdict
         rows.append(row)
     return pd.DataFrame(rows)
+
+
+def _evidence_cells(fit, prediction) -> dict:
+    """The evidence columns of one lot (see :data:`EVIDENCE_COLUMNS`)."""
+    from rheofit.fitting.evidence import Evidence
+
+    evidence = Evidence.of(fit)
+    extrapolation = math.nan
+    if prediction is not None:
+        from rheofit.flow.headline import extrapolation_factor
+
+        extrapolation = extrapolation_factor(prediction)
+    weight = math.nan if fit.support is None else fit.support.akaike_weight
+    return {"rms_log_residual": fit.rms_log_residual,
+            "runs_p_value": math.nan if evidence.runs_p_value is None else evidence.runs_p_value,
+            "akaike_weight": weight, "extrapolation": extrapolation,
+            "unresolved": ", ".join(evidence.unresolved), "forced_model": bool(fit.flags_with("forced_model"))}
 
 
 def _lot_flags(labels, fits, predictions) -> list[Flag]:

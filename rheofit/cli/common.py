@@ -80,17 +80,23 @@ def read_overrides(columns: Optional[list[str]], units: Optional[list[str]]) -> 
 
 def load_source(source: Path, model: Optional[str], curve: Optional[str] = None,
                 overrides: Optional[dict] = None):
-    """A FitResult from a saved fit (JSON) or from fitting a data file on the spot."""
+    """A FitResult from a saved fit (JSON) or from fitting a data file on the spot.
+
+    A model given by name is judged against the others (its Akaike weight and
+    rank), and flagged ``forced_model`` when the data reject it."""
     from rheofit.fitting.saved import is_saved_fit, load_fit
 
+    from rheofit.fitting.support import choose, forced
+
     if is_saved_fit(source):
-        return load_fit(source, model=model, curve=curve)
-    from rheofit.fitting import fit, fit_all
+        result = load_fit(source, model=model, curve=curve)
+        return forced(result) if model else result
+    from rheofit.fitting import fit_all
     from rheofit.ingest import read_flow_curve
 
     pick = int(curve) if curve and curve.isdigit() else curve
     curve = read_flow_curve(source, curve=pick, **(overrides or {}))
-    return fit(curve, model) if model else fit_all(curve)[0]
+    return choose(fit_all(curve), model)  # every model ranked: a chosen one carries its weight
 
 
 def make_geometry(diameter, gap, width, length):

@@ -13,7 +13,8 @@ from rheofit.cli.options import COLUMN, UNIT
 
 def fit_files(files, model: str, overrides: Optional[dict] = None):
     """Read every curve of every file and fit it: [(curve, [FitResult best first])]."""
-    from rheofit.fitting import fit, fit_all
+    from rheofit.fitting import fit_all
+    from rheofit.fitting.support import choose
     from rheofit.ingest import read_flow_curves
     from rheofit.models import get_model
 
@@ -23,7 +24,8 @@ def fit_files(files, model: str, overrides: Optional[dict] = None):
         for path in files:
             for curve in read_flow_curves(path, **(overrides or {})):
                 status.update(f"fitting {curve.name} ({len(groups) + 1} so far)")
-                results = fit_all(curve) if chosen is None else [fit(curve, chosen)]
+                ranking = fit_all(curve)  # also for one model: its weight among the others
+                results = ranking if chosen is None else [choose(ranking, chosen)]
                 groups.append((curve, results))
     return groups
 

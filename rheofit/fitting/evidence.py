@@ -23,7 +23,7 @@ import numpy as np
 
 from rheofit.curve import Flag
 from rheofit.fitting.statistics import runs_test
-from rheofit.fitting.support import ModelSupport, ranking_caveat
+from rheofit.fitting.support import RANKING_MIN_POINTS, ModelSupport, ranking_caveat
 
 #: flags of a fit that the evidence carries on to every result built on it
 CARRIED = ("forced_model", "sole_model", "thin_ranking")
@@ -63,13 +63,15 @@ class Evidence:
         return 100.0 * math.expm1(self.rms_log_residual) if math.isfinite(self.rms_log_residual) else math.nan
 
     def line(self) -> str:
-        """'carreau: misfit 1.9 % rms (runs test p = 0.43); Akaike weight 0.807 (1st of 9 models); all parameters resolved'."""
+        """'misfit 1.9 % rms (runs test p = 0.43); Akaike weight 0.807 (1st of 9 models); all parameters resolved'."""
         misfit = self.misfit_percent
-        parts = [f"{self.model}: misfit {misfit:.2g} % rms" if math.isfinite(misfit) else f"{self.model}: misfit unknown"]
+        parts = [f"misfit {misfit:.2g} % rms" if math.isfinite(misfit) else "misfit unknown"]
         if self.runs_p_value is None:
             parts[0] += " (runs test: not applicable)"
         else:
             word = ", residual PATTERN" if self.pattern else ""
+            if self.n_points < RANKING_MIN_POINTS:
+                word += f"; on {self.n_points} points it cannot detect a pattern"
             parts[0] += f" (runs test p = {self.runs_p_value:.2g}{word})"
         parts.append("Akaike weight not known (no ranking saved)" if self.support is None else self.support.text())
         parts.append(f"unresolved: {', '.join(self.unresolved)}" if self.unresolved else "all parameters resolved")

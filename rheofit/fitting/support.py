@@ -166,6 +166,21 @@ def ranking_caveat(n_points: int, ranked, not_ranked=()) -> str:
     return ""
 
 
+def not_ranked_lines(n_points: int, skipped) -> list[str]:
+    """The models not fitted, grouped: ['power_law, casson: need at least 4 points', 'x: <why>']."""
+    from rheofit.models import MODELS
+
+    by_need, other = {}, []
+    for name, reason in skipped:
+        need = len(MODELS[name].parameters) + MIN_SPARE_POINTS if name in MODELS else 0
+        if need > n_points:
+            by_need.setdefault(need, []).append(name)
+        else:
+            other.append(f"{name}: {reason}")
+    return [f"{', '.join(names)}: need at least {need} points (AICc undefined with fewer)"
+            for need, names in sorted(by_need.items())] + other
+
+
 def _others(n_points: int, not_ranked) -> str:
     """' (every other model needs at least 4 points)', or the names of the models not ranked."""
     from rheofit.models import MODELS

@@ -92,7 +92,7 @@ def reach(p) -> str | None:
     low, high = (float(v) for v in measured)
     rate = np.atleast_1d(np.asarray(p.wall_shear_rate, dtype=float)).ravel()[flowing]
     factor = np.maximum(low / rate, rate / high)
-    where = f"the measured {low:.3g} to {high:.3g} 1/s"
+    where = f"the measured {low:.4g} to {high:.4g} 1/s"
     worst = int(np.argmax(factor))
     if factor[worst] <= 1.0:
         told = f"{rate[0]:.4g} 1/s" if rate.size == 1 else f"{rate.min():.4g} to {rate.max():.4g} 1/s"
@@ -119,4 +119,4 @@ def headline(p, show=si) -> Headline:
     """The four parts of ``p``'s headline."""
     evidence = getattr(p, "evidence", None)
     return Headline(None if evidence is None else evidence.warning(), answer(p, show), reach(p),
-                    None if evidence is None else "model " + evidence.line())
+                    None if evidence is None else f"evidence ({evidence.model} model): {evidence.line()}")

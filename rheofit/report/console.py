@@ -8,7 +8,9 @@ from rich.console import Group
 from rich.table import Table
 from rich.text import Text
 
+from rheofit.fitting.evidence import Evidence
 from rheofit.fitting.statistics import akaike_weights
+from rheofit.fitting.support import RANKING_MIN_POINTS, not_ranked_lines
 from rheofit.models import MODELS
 from rheofit.report.display import number, shown
 
@@ -43,11 +45,24 @@ _SHORT_FLAG = {"at_bound": "B", "few_points": "F", "residual_pattern": "P", "unr
 _FLAG_LEGEND = "flags: B parameter at a bound, F few points, P residual pattern, U unresolved parameter"
 
 
+def ranking_title(results) -> str:
+    """The heading of a ranking: it says when the ranking rests on few points or on one model."""
+    n = results[0].n_points if len(results) else 0
+    if len(results) == 1:
+        return f"Only one model could be ranked on {n} points"
+    if n < RANKING_MIN_POINTS:
+        return f"Ranking on only {n} points (AICc, lower is better)"
+    return "Ranking (AICc, lower is better)"
+
+
 def ranking_table(results) -> Table:
-    """Models ranked by AICc with Akaike weights (Burnham & Anderson 2002)."""
+    """Models ranked by AICc with Akaike weights (Burnham & Anderson 2002); the heading and
+    caption say what a ranking on few points, or of one model, cannot tell."""
     best = results[0].aicc
     weights = akaike_weights([r.aicc for r in results])
-    table = Table(title="Ranking (AICc, lower is better)", caption="rms(ln): typical relative misfit; weight: Akaike weight\n" + _FLAG_LEGEND)
+    caveat = getattr(results, "caveat", "")
+    caption = (caveat + "\n" if caveat else "") + "rms(ln): typical relative misfit; weight: Akaike weight\n" + _FLAG_LEGEND
+    table = Table(title=ranking_title(results), caption=caption)
     table.add_column("#", justify="right")
     table.add_column("model", no_wrap=True)
     for col in ("k", "AICc", "ΔAICc", "weight", "BIC", "rms(ln)"):
@@ -89,8 +104,32 @@ def flag_lines(flags) -> Text:
     return text
 
 
+def not_ranked(curve, results) -> Text | None:
+    """The models tried but not fitted, with why (None when every model was ranked)."""
+    skipped = getattr(results, "skipped", ())
+    if not skipped:
+        return None
+    text = Text("Not ranked:\n", style="bold")
+    for line in not_ranked_lines(len(curve), skipped):
+        text.append(f"  • {line}\n", style="")
+    return text
+
+
+def evidence_text(fit) -> Text:
+    """The warning (when the data reject the chosen model, or one model is left) and the evidence line."""
+    evidence = Evidence.of(fit)
+    text = Text()
+    if evidence.warning():
+        text.append("WARNING: ", style="bold red")
+        text.append(evidence.warning() + "\n", style="red")
+    text.append(f"Evidence ({evidence.model} model): ", style="bold")
+    text.append(evidence.line())
+    return text
+
+
 def curve_block(curve, results, chosen) -> Group:
-    """Everything `rheofit fit` shows for one curve."""
+    """Everything `rheofit fit` shows for one curve: the ranking (when one was made), the models
+    not ranked, the chosen fit's evidence, parameters and flags."""
     low, high = curve.shear_rate_range
     head = Text(
         f"\n{curve.name}  ({curve.source or 'in memory'}; {len(curve)} points, "
@@ -98,8 +137,9 @@ def curve_block(curve, results, chosen) -> Group:
         style="bold",
     )
     parts = [head]
-    if len(results) > 1:
+    if len(results) > 1 or hasattr(results, "skipped"):
         parts.append(ranking_table(results))
+    parts += [part for part in (not_ranked(curve, results), evidence_text(chosen)) if part is not None]
     parts += [parameter_table(chosen), Text("Flags:", style="bold"), flag_lines(chosen.flags)]
     return Group(*parts)
 
@@ -107,13 +147,16 @@ def curve_block(curve, results, chosen) -> Group:
 def summary_table(groups) -> Table:
     """One row per curve: the best model and its parameters."""
     table = Table(title="Summary")
-    for col in ("sample", "best model", "ΔAICc to next", "parameters", "flags"):
+    for col in ("sample", "model", "ΔAICc to next", "weight", "misfit", "parameters", "flags"):
         table.add_column(col, overflow="fold")
     for curve, results in groups:
         best = results[0]
         gap = f"{results[1].aicc - best.aicc:.2f}" if len(results) > 1 else "—"
         params = ", ".join(f"{k}={number(v.value)}" for k, v in best.params.items())
-        table.add_row(curve.name, best.model, gap, params, str(len(best.flags)))
+        support = best.support
+        weight = "—" if support is None else ("only one ranked" if support.sole else f"{support.akaike_weight:.3f}")
+        misfit = f"{Evidence.of(best).misfit_percent:.2g} %"
+        table.add_row(curve.name, best.model, gap, weight, misfit, params, str(len(best.flags)))
     return table
 
 
@@ -149,6 +192,22 @@ def _prediction_rows(p):
     return rows
 
 
+def headline_text(p) -> Text:
+    """The prediction's headline: a warning line BEFORE the number (when there is one), the answer
+    with its 95 % interval, where the wall shear rate lies, and the model's evidence."""
+    top = p.headline(shown)
+    text = Text()
+    if top.warning:
+        text.append("WARNING: ", style="bold red")
+        text.append(top.warning + "\n", style="red")
+    text.append(top.answer[0].upper() + top.answer[1:] + "\n", style="bold")
+    if top.reach:
+        text.append(top.reach + "\n", style="bold yellow" if top.reach.startswith("EXTRAPOLATED") else "")
+    if top.evidence:
+        text.append(top.evidence[0].upper() + top.evidence[1:] + "\n")
+    return text
+
+
 def prediction_block(result, geometry, p) -> Group:
     """Everything `rheofit flow` shows for one operating point."""
     from rich.panel import Panel
@@ -157,19 +216,15 @@ def prediction_block(result, geometry, p) -> Group:
 
     label = f" '{p.fluid.name}'" if p.fluid.name else ""
     head = Text(f"\n{p.fluid.model}{label} in a {geometry.describe()}", style="bold")
+    top = headline_text(p)
+    caution = Panel(Text(SAFETY_CAUTION), border_style="yellow")
+    if not bool(p.flowing):  # at rest: the threshold is the whole answer
+        return Group(head, top, caution)
     table = Table(show_header=False, box=None, padding=(0, 2))
     table.add_column(style="cyan")
     table.add_column()
     for name, value in _prediction_rows(p):
         table.add_row(name, Text(value))
-    if not bool(p.flowing):
-        compare = Text("\nNo flow: ", style="bold red")
-        compare.append(
-            f"the wall shear stress stays below the yield stress; the sample starts to flow only "
-            f"above {shown(p.threshold_pressure_drop, 'pressure')} over this length."
-        )
-        return Group(head, table, compare, Text("\nFlags:", style="bold"), flag_lines(p.flags),
-                     Panel(Text(SAFETY_CAUTION), border_style="yellow"))
     compare = Text("\nNewtonian comparison: ", style="bold")
     compare.append(
         f"with {number(p.newtonian_viscosity)} Pa·s ({p.newtonian_reference}) a Newtonian estimate "
@@ -183,5 +238,5 @@ def prediction_block(result, geometry, p) -> Group:
         )
     density = " (default; pass --density)" if p.density_is_default else ""
     notes = Text(f"\nLaminar criterion: {p.laminar_criterion}. Density {number(p.density)} kg/m³{density}.", style="dim")
-    return Group(head, table, compare, notes, Text("\nFlags:", style="bold"), flag_lines(p.flags),
-                 Panel(Text(SAFETY_CAUTION), border_style="yellow"))
+    return Group(head, top, table, compare, notes, Text("\nFlags:", style="bold"), flag_lines(p.flags),
+                 caution)

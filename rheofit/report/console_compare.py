@@ -30,6 +30,7 @@ def _lot_column(table, comparison) -> None:
 
 def parameter_table(comparison):
     """Rich table: one row per lot, each parameter with its 95 % interval below it."""
+    from rich.markup import escape
     from rich.table import Table
 
     from rheofit.report.display import number
@@ -40,7 +41,8 @@ def parameter_table(comparison):
     table.add_column("#", justify="right")
     _lot_column(table, comparison)
     for spec in declaration.parameters:
-        table.add_column(f"{spec.name} [{spec.unit}]", justify="right", overflow="fold")
+        # escaped: rich would read '[s]' (lam's unit) as its strike-through markup and drop it
+        table.add_column(escape(f"{spec.name} [{spec.unit}]"), justify="right", overflow="fold")
     for i, row in enumerate(comparison.table.to_dict(orient="records")):
         fit = comparison.fits[i]
         cells = [f"{number(fit.params[s.name].value, 4)}\n{_short_interval(fit.params[s.name].ci95)}"
@@ -91,22 +93,27 @@ def comparison_block(comparison):
     from rheofit.report.console import flag_lines
     from rheofit.report.display import number
 
+    from rheofit.report.display import shown
+
     low, high = comparison.shared_range
-    head = Text(f"\n{len(comparison.lots)} lots; reference '{comparison.lots[comparison.reference]}'; "
+    head = Text()
+    if comparison.warning:
+        head.append("\nWARNING: ", style="bold red")
+        head.append(comparison.warning, style="red")
+    head.append(f"\n{len(comparison.lots)} lots; reference '{comparison.lots[comparison.reference]}'; "
                 f"model {comparison.model} ({comparison.model_choice}); shared shear-rate range "
                 f"{number(low)} to {number(high)} 1/s", style="bold")
     if comparison.operating_point:
         (given, value), = comparison.operating_point.items()
-        from rheofit.report.display import shown
-
         what = shown(value, "flow_rate" if given == "flow_rate" else "pressure")
         head.append(f"\noperating point: {given.replace('_', ' ')} {what} in a {comparison.geometry.describe()}",
                     style="bold")
     verdicts = Text("\nVerdicts:\n", style="bold")
-    for row in comparison.table.to_dict(orient="records"):
+    for i, row in enumerate(comparison.table.to_dict(orient="records")):
         style = "green" if row["within_tolerance"] else "red"
         verdicts.append(f"  {row['lot']}: ", style="bold")
         verdicts.append(f"{row['verdict']}\n", style=style)
+        verdicts.append(f"    evidence: {comparison.evidence(i, shown)}\n", style="dim" if not row["forced_model"] else "red")
     test = comparison.same_curve
     if comparison.p_value == comparison.p_value:
         stats = Text(f"Same-curve test (extra sum of squares F test, one parameter set for all lots "
