@@ -243,17 +243,15 @@ class ViscosityModel:
         names = self.parameter_names
         if len(set(names)) != len(names):
             self._fail(f"repeats a parameter name ({', '.join(names)})")
-        self._check_signature("stress function", self.stress_function, leading=1)
-        for role, function in (("shear-rate function", self.shear_rate_function),):
+        hooks = [("stress function", self.stress_function, 1),
+                 ("shear-rate function", self.shear_rate_function, 1),
+                 ("constraint", self.constraint, 0),
+                 ("yield stress function", self.yield_stress_function, 0),
+                 ("zero-shear viscosity function", self.zero_shear_viscosity_function, 0)]
+        hooks += [(f"closed form '{key}'", function, None) for key, function in self.extras.items()]
+        for role, function, leading in hooks:
             if function is not None:
-                self._check_signature(role, function, leading=1)
-        hooks = (("constraint", self.constraint), ("yield stress function", self.yield_stress_function),
-                 ("zero-shear viscosity function", self.zero_shear_viscosity_function))
-        for role, function in hooks:
-            if function is not None:
-                self._check_signature(role, function, leading=0)
-        for key, function in self.extras.items():
-            self._check_signature(f"closed form '{key}'", function, leading=None)
+                self._check_signature(role, function, leading)
         self._check_example()
 
     def _fail(self, what: str):
@@ -273,7 +271,7 @@ class ViscosityModel:
         if leading is None:
             leading = next((i for i, n in enumerate(names) if n in declared), len(names))
         if len(names) < leading:
-            self._fail(f"has a {role} that takes no {'shear rate' if role.startswith('stress') else 'stress'} argument")
+            self._fail(f"has a {role} without its leading argument (a shear rate or a stress)")
         own, own_required = names[leading:], [n for n in required if n in names[leading:]]
         unknown = [n for n in own_required if n not in declared]
         missing = [] if var_kw else [n for n in self.parameter_names if n not in own]
