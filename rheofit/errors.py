@@ -34,6 +34,10 @@ class ParameterError(RheofitError, ValueError):
     """A parameter name or value does not fit the model."""
 
 
+class DeclarationError(RheofitError, TypeError):
+    """A model declaration disagrees with itself (names the model and the mismatched names)."""
+
+
 class FitError(RheofitError, RuntimeError):
     """A fit could not be carried out on the given data."""
 
