@@ -14,6 +14,8 @@ from typer.testing import CliRunner
 from rheofit.cli import app
 from rheofit.curve import FlowCurve
 from rheofit.fitting import fit, fit_all
+from rheofit.fitting.band import drawn_band
+from rheofit.flow.curves import profile_against_newtonian
 from rheofit.flow import Slit, Tube, predict
 from rheofit.jobs.analysis import OperatingCase, analyse
 from rheofit.models import MODELS, Parameter, ViscosityModel
@@ -80,8 +82,9 @@ def test_a_new_model_is_fitted_predicted_drawn_and_reported(root_law):
         assert scale * integral / tau_w**power == pytest.approx(q, rel=1e-8)
         assert predict(result, geometry, flow_rate=2 * q).pressure_drop > prediction.pressure_drop
 
-    assert flow_curve_figure([result], curve=curve).axes
-    assert velocity_profile_figure(predict(result, SLIT, flow_rate="20 uL/min")).axes
+    assert flow_curve_figure([result], drawn_band(result), curve=curve).axes
+    slit_prediction = predict(result, SLIT, flow_rate="20 uL/min")
+    assert velocity_profile_figure(slit_prediction, profile_against_newtonian(slit_prediction)).axes
 
     analysis = analyse([curve], model="root_law", cases=[
         OperatingCase("tube", TUBE, flow_rate=20e-9 / 60), OperatingCase("slit", SLIT, flow_rate=20e-9 / 60)])
