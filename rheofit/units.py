@@ -235,8 +235,9 @@ def parse_typed(text, kind: str, option: str, *, positive: bool = True) -> float
         raise UnitError(f"{option} '{text}' is not a finite number; give a {words} such as "
                         f"'{_first_example(kind)}'.")
     if not unit and kind != "dimensionless":
+        example = f"{number_text} {_example_unit(kind)}" if number > 0 else _first_example(kind)
         raise UnitError(f"{option} '{text}' has no unit; give a number and a unit of {words} "
-                        f"({_EXAMPLES[kind]}), e.g. '{number_text} {_example_unit(kind)}'.")
+                        f"({_EXAMPLES[kind]}), e.g. '{example}'.")
     try:
         value = float(to_si(number, unit, kind))
     except UnitError as exc:
