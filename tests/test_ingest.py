@@ -349,6 +349,8 @@ def test_one_segment_of_an_up_and_down_sweep(tmp_path):
     with pytest.raises(ParameterError, match=r"^Unknown segment 'sideways'; choose one of: all, up, down\.$"):
         read_flow_curves(path, segment="sideways")
     path.write_text("Shear rate [1/s],Viscosity [Pa s]\n" + "".join(f"{g},2.0\n" for g in rates), encoding="utf-8")
+    up, = read_flow_curves(path, segment="up")  # an ascending sweep is all "up": nothing to flag
+    assert len(up) == 7 and "segment_kept" not in [f.code for f in up.flags]
     with pytest.raises(InputFileError, match=r"\(loop: ascending\) has 0 points in down segments; .* choose "
                                              r"segment='up' or 'all'\.$"):
         read_flow_curves(path, segment="down")

@@ -129,11 +129,14 @@ def runs_up(shear_rate: np.ndarray, segment: np.ndarray) -> np.ndarray:
 def keep_segment(curve: FlowCurve, which: str, shown: str) -> FlowCurve:
     """The points of ``curve`` in its up or down segments (``which``), flagged; all for 'all'.
 
-    Raises InputFileError naming the file when fewer than 3 points are left.
+    A sweep that runs only that way is returned as it is.  Raises
+    InputFileError naming the file when fewer than 3 points are left.
     """
     if which == "all" or curve.segment is None:
         return curve
     keep = runs_up(curve.shear_rate, curve.segment) == (which == "up")
+    if keep.all():
+        return curve
     sweep = curve.metadata.get("import", {}).get("sweep", "")
     if keep.sum() < 3:
         other = "down" if which == "up" else "up"
