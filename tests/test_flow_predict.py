@@ -332,16 +332,18 @@ def test_unreadable_operating_point():
         predict(WATER, TUBE, flow_rate="10 kPa")
 
 
-@pytest.mark.parametrize("kwargs, name", [
-    ({"density": -1.0}, "density"), ({"density": "zero"}, None), ({"newtonian_viscosity": 0.0}, "newtonian_viscosity"),
-    ({"tolerance": -0.1}, "tolerance"), ({"tolerance": None}, "tolerance"),
+@pytest.mark.parametrize("kwargs, name, words", [
+    ({"density": -1.0}, "density", "positive, finite"), ({"density": "zero"}, None, ""),
+    ({"newtonian_viscosity": 0.0}, "newtonian_viscosity", "positive, finite"),
+    ({"tolerance": -0.1}, "tolerance", "positive fraction"), ({"tolerance": None}, "tolerance", "positive fraction"),
+    ({"tolerance": 10}, "tolerance", "ambiguous"),  # 10 is not read as 1000 % (rheofit.units.parse_tolerance)
 ])
-def test_bad_settings(kwargs, name):
+def test_bad_settings(kwargs, name, words):
     expected = ParameterError if name else UnitError
     with pytest.raises(expected) as info:
         predict(WATER, TUBE, flow_rate=1e-9, **kwargs)
     if name:
-        assert name in str(info.value) and "positive, finite" in str(info.value)
+        assert name in str(info.value) and words in str(info.value)
 
 
 def test_bad_profile_points_and_index():
