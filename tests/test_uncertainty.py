@@ -40,6 +40,7 @@ def sweep(model, true, rate_range, points, noise, rng, name="synthetic"):
 COVERAGE_REPLICATES = 150
 
 
+@pytest.mark.slow
 def test_pressure_drop_interval_covers_the_truth_about_95_percent_of_the_time(record_property):
     """Replicated power-law sweeps (12 points, 3 % log-normal noise, fixed seed).
 
