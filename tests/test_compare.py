@@ -112,6 +112,7 @@ def test_f_test_equals_one_way_anova_for_newtonian_lots():
     assert (c.same_curve["df_numerator"], c.same_curve["df_denominator"]) == (2, 27)
 
 
+@pytest.mark.slow
 def test_same_curve_test_rejects_at_its_nominal_rate_under_the_null():
     """Pairs of lots of one power-law truth: about 5 % of p-values fall below 0.05.
 

@@ -59,7 +59,7 @@ def test_the_demo_covers_the_scenario(first_run):
     assert any(f.code == "extrapolation" for f in priming[0].prediction.flags)
     comparison = analysis.comparison
     assert comparison is not None and list(comparison.lots) == list(demo.LOTS)
-    # lot C was mixed with too little water (sample_data/README.md): it must stand out
+    # lot C was mixed with too little water (rheofit/sample_data/README.md): it must stand out
     assert comparison.table["within_tolerance"].tolist() == [True, True, False]
 
 

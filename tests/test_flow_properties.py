@@ -9,12 +9,14 @@ rates 1e-2..1e5 1/s.
 """
 
 import math
+import re
 
 import numpy as np
 import pytest
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
+from rheofit.errors import GeometryError
 from rheofit.fluid import Fluid
 from rheofit.flow import Slit, Tube, engine
 from rheofit.models import MODELS
@@ -98,8 +100,15 @@ def test_pressure_drop_rises_with_flow_rate(name, shape):
         dp = operating_point(f, geometry, log_rate)
         q = engine.flow_rate(f, geometry, dp)
         assume(q > 0)
-        dps = engine.pressure_drop(f, geometry, np.array([0.5, 1.0, factor]) * q)
-        assert dps[0] < dps[1] < dps[2]
+        try:
+            dps = engine.pressure_drop(f, geometry, np.array([0.5, 1.0, factor]) * q)
+        except GeometryError as refused:
+            # a flow curve that levels off carries only so much (test_flow_limits has the case
+            # found here): refusing is right, with a positive maximum below what was asked
+            most = float(re.search(r"at most (\S+) m\^3/s", str(refused)).group(1))
+            assert 0.0 < most < factor * q
+            dps = engine.pressure_drop(f, geometry, np.array([0.5, 1.0]) * q)
+        assert np.all(np.diff(dps) > 0)
 
     check()
 
