@@ -568,12 +568,15 @@ def _evidence_cells(fit, prediction) -> dict:
             "unresolved": ", ".join(evidence.unresolved), "forced_model": bool(fit.flags_with("forced_model"))}
 
 
-def _lot_flags(labels, fits, predictions) -> list[Flag]:
+def _lot_flags(labels, curves, fits, predictions) -> list[Flag]:
+    """Per lot: every flag of its import (a unit read as SI, dropped rows, ...) and the LOT_FLAGS
+    of its fit and prediction."""
     flags, seen = [], set()
     for i, label in enumerate(labels):
         sources = [fits[i].flags] + ([predictions[i].flags] if predictions else [])
-        for flag in (f for group in sources for f in group):
-            if flag.code not in LOT_FLAGS or (i, flag.code, flag.message) in seen:
+        found = [*curves[i].flags, *(f for group in sources for f in group if f.code in LOT_FLAGS)]
+        for flag in found:
+            if (i, flag.code, flag.message) in seen:
                 continue
             seen.add((i, flag.code, flag.message))
             flags.append(Flag(flag.code, f"Lot '{label}': {flag.message}", {**flag.data, "lot": label}))
@@ -666,7 +669,7 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
     solved = _QUANTITY[next(iter(point))] if point else None
     table = _table(labels, fits, predictions, solved, reference, shared, tolerance)
     flags = _comparison_flags(labels, fits, predictions, shared, rankings, model_name, geometry)
-    flags += _lot_flags(labels, fits, predictions)
+    flags += _lot_flags(labels, curves, fits, predictions)
     if not math.isfinite(test["p_value"]):
         flags.append(Flag("test_unavailable", f"The same-curve test could not be made: {test.get('note', '')}.",
                           {}))

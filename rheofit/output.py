@@ -10,7 +10,7 @@ from pathlib import Path
 
 import numpy as np
 
-from rheofit.errors import OutputExistsError
+from rheofit.errors import OutputExistsError, OutputPathError
 
 
 def finite_or_none(value) -> float | None:
@@ -51,17 +51,54 @@ def _umask() -> int:
     return mask
 
 
+def _blocked(folder: Path):
+    """Why files cannot go into ``folder``, as (error class, reason), or None when they can."""
+    if folder.is_dir():
+        return None
+    if folder.exists():
+        return OutputExistsError, f"'{folder}' is a file, not a folder; choose another path"
+    above = next((p for p in folder.parents if p.exists()), None)
+    if above is not None and not above.is_dir():
+        return OutputExistsError, f"'{above}' is a file, not a folder; choose another path"
+    return OutputPathError, f"the folder '{folder}' does not exist; create it first or choose another path"
+
+
 def make_folder(folder) -> Path:
-    """Create ``folder`` (and its parents) for outputs, or say in one sentence why not."""
+    """Create the output ``folder`` itself (never missing folders above it), or say why not.
+
+    Raises OutputPathError when the folder above is missing, OutputExistsError
+    when a file stands in the way.
+    """
     folder = Path(folder)
-    try:
-        folder.mkdir(parents=True, exist_ok=True)
-    except (FileExistsError, NotADirectoryError):
-        raise OutputExistsError(
-            f"Cannot write into '{folder}': it (or a folder above it) is a file, not a folder; "
-            "choose another output path."
-        ) from None
+    if folder.is_dir():
+        return folder
+    blocked = _blocked(folder.parent) or (_blocked(folder) if folder.exists() else None)
+    if blocked:
+        error, reason = blocked
+        raise error(f"Cannot write into '{folder}': {reason}.")
+    folder.mkdir()
     return folder
+
+
+def check_target(path, *, force: bool = False) -> None:
+    """Refuse, before any work, an output file that cannot be written (None is skipped).
+
+    A folder at ``path``, a missing folder or a file above it: refused whatever
+    ``force`` says (a folder is never created silently); an existing file:
+    refused unless ``force``.
+    """
+    if path is None:
+        return
+    path = Path(path)
+    if path.is_dir():
+        raise OutputExistsError(f"Output '{path}' is a folder; give the name of a file to write in it, "
+                                f"e.g. '{path / 'results.json'}'.")
+    blocked = _blocked(path.parent)
+    if blocked:
+        error, reason = blocked
+        raise error(f"Cannot write '{path}': {reason}.")
+    if not force:
+        refuse_existing(path)
 
 
 def refuse_existing(*paths) -> None:
@@ -77,14 +114,11 @@ def write_atomic(path, data: str | bytes, *, force: bool = False) -> Path:
     """Write ``data`` to ``path`` via a temporary file in the same folder and a rename.
 
     A reader never sees a half-written file, and an existing file is replaced
-    only when ``force`` is true (otherwise OutputExistsError).
+    only when ``force`` is true (otherwise OutputExistsError); the folder must
+    exist (see :func:`check_target`).
     """
     path = Path(path)
-    if path.is_dir():
-        raise OutputExistsError(f"Output '{path}' is a folder; give the name of a file to write.")
-    if not force:
-        refuse_existing(path)
-    make_folder(path.parent)
+    check_target(path, force=force)
     mode = "wb" if isinstance(data, bytes) else "w"
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:

@@ -17,7 +17,7 @@ from typer.testing import CliRunner
 from rheofit.cli.compare import compare_command
 from rheofit.flow.predict import SAFETY_CAUTION
 
-SAMPLES = Path(__file__).resolve().parent.parent / "sample_data"
+SAMPLES = Path(__file__).resolve().parent.parent / "rheofit" / "sample_data"
 runner = CliRunner()
 
 app = typer.Typer()
@@ -73,7 +73,7 @@ def test_bundled_lots_table_verdicts_test_flags_and_caution():
     assert "Parameters of the carreau model" in out and "Against the reference lot" in out
     assert "Verdicts:" in out and "NO" in out
     assert "medium_lot_B: within tolerance" in out
-    # lot C of the bundled sweeps was made more viscous on purpose (sample_data/make_samples.py)
+    # lot C of the bundled sweeps was made more viscous on purpose (rheofit/sample_data/make_samples.py)
     assert "medium_lot_C: outside tolerance" in out
     assert "Same-curve test" in out and "p = " in out
     assert "Flags:" in out and "Caution" in out

@@ -23,19 +23,9 @@ from rheofit.models import MODELS, Parameter, ViscosityModel
 
 # --- synthetic data (invented values, for recovery tests only) -----------------
 
-#: model -> (true parameters, shear-rate range [1/s] wide enough to resolve each)
-RECOVERY = {
-    "newtonian": ({"mu": 0.05}, (0.1, 1e3)),
-    "power_law": ({"K": 2.0, "n": 0.45}, (0.1, 1e3)),
-    "carreau": ({"eta0": 10.0, "eta_inf": 0.01, "lam": 2.0, "n": 0.35}, (1e-3, 1e6)),
-    "carreau_yasuda": ({"eta0": 5.0, "eta_inf": 0.005, "lam": 0.5, "n": 0.3, "a": 0.7},
-                       (1e-4, 1e6)),
-    "cross": ({"eta0": 20.0, "eta_inf": 0.02, "lam": 0.3, "m": 0.75}, (1e-3, 1e6)),
-    "sisko": ({"eta_inf": 0.05, "K": 3.0, "n": 0.25}, (0.1, 1e5)),
-    "bingham": ({"tau_y": 5.0, "mu_p": 0.1}, (0.1, 1e3)),
-    "herschel_bulkley": ({"tau_y": 10.0, "K": 2.0, "n": 0.5}, (0.01, 1e3)),
-    "casson": ({"tau_y": 0.5, "mu_c": 0.004}, (0.01, 1e3)),
-}
+#: model -> (true parameters, shear-rate range [1/s] wide enough to resolve each), from each
+#: declaration's example values and example range
+RECOVERY = {name: (dict(m.example), tuple(m.example_range)) for name, m in MODELS.items()}
 
 
 def synthetic(model, params, low, high, n_points=32, noise=0.02, seed=0, name="synthetic"):
@@ -284,6 +274,63 @@ def test_yield_stress_far_below_the_data_is_not_resolved():
     assert result.params["K"].resolved and result.params["n"].resolved
 
 
+# --- bounds follow physics; a bound that holds a fit is named --------------------------------
+
+#: a Cross fit of human blood, Cho & Kensey (1991) Biorheology 28, 241-262 (from memory):
+#: eta0 = 0.056 Pa*s, eta_inf = 0.00345 Pa*s, lam = 1.007 s, m = 1.028
+BLOOD_CROSS = {"eta0": 0.056, "eta_inf": 0.00345, "lam": 1.007, "m": 1.028}
+
+
+@pytest.fixture(scope="module")
+def blood_curve():
+    return synthetic("cross", BLOOD_CROSS, 1e-2, 1e3, 32, seed=11, name="blood-like")
+
+
+def capped_cross(upper):
+    """The Cross declaration with m capped at ``upper`` (the old cap was 1)."""
+    from dataclasses import replace
+
+    cross = MODELS["cross"]
+    m = replace(cross.parameter("m"), upper=upper)
+    return replace(cross, name="cross_capped", parameters=cross.parameters[:3] + (m,))
+
+
+def test_a_cross_exponent_above_one_is_recovered(blood_curve):
+    result = fit(blood_curve, "cross")
+    assert not result.flags_with("at_bound") and not result.flags_with("unresolved")
+    m = result.params["m"]
+    assert m.value == pytest.approx(BLOOD_CROSS["m"], rel=0.05) and m.resolved
+    assert inside(m, BLOOD_CROSS["m"]) and m.ci95[0] > 1.0
+
+
+def test_a_bound_that_holds_the_fit_leads_the_flags(blood_curve):
+    result = fit(blood_curve, capped_cross(1.0))
+    at_bound = result.flags_with("at_bound")
+    assert [f.data["parameter"] for f in at_bound] == ["m"]
+    assert at_bound[0].message.startswith("m is at its upper bound 1: ")
+    held = [f for f in result.flags_with("unresolved") if f.data["parameter"] != "m"]
+    assert held, "the cap leaves the others open"
+    for flag in held:
+        assert flag.message.startswith(f"{flag.data['parameter']} is not resolved because m is at "
+                                       "its upper bound 1")
+        assert "plateau" not in flag.message and flag.data["cause"] == "bound"
+        assert "m is at its upper bound 1" in result.params[flag.data["parameter"]].note
+
+
+def test_infeasible_trial_points_get_the_huge_residual():
+    from rheofit.fitting.problem import LogStressProblem
+
+    rate = np.geomspace(1e-2, 1e3, 20)
+    problem = LogStressProblem(MODELS["cross"], rate, MODELS["cross"].stress(rate, **BLOOD_CROSS))
+    par = problem.parametrisation
+    assert np.all(problem.residual(par.internal(BLOOD_CROSS)) < 1e-12)
+    above = {**BLOOD_CROSS, "eta_inf": 0.1}            # eta_inf > eta0: the declared constraint
+    # m = 2 without eta_inf peaks at lam*gamma_dot = 1, inside these data (see test_models)
+    falling = {**BLOOD_CROSS, "eta_inf": 0.0, "m": 2.0}
+    for values in (above, falling):
+        assert np.all(problem.residual(par.internal(values)) == 50.0)
+
+
 # --- model mismatch and ranking ------------------------------------------------------
 
 def test_power_law_on_plateau_data_shows_a_residual_pattern(plateau_curve):
@@ -478,6 +525,7 @@ def custom_model(stress_function, guess_function=None, name="custom"):
     return ViscosityModel(
         name, "Custom", "tau = ?", (Parameter("c", "Pa*s", 1e-6, 1e6, "a constant"),),
         stress_function, guess_function or (lambda rate, stress: {"c": 1.0}), "invented",
+        example={"c": 1.0}, example_range=(0.1, 10.0),
     )
 
 
@@ -515,7 +563,9 @@ def test_unstable_optimum_is_a_fit_error(monkeypatch):
 def test_fit_all_skips_what_it_cannot_fit():
     ranking = fit_all(tiny_curve(4), list(MODELS.values()) + [NAN_MODEL])
     skipped = dict(ranking.skipped)
-    assert {"carreau", "carreau_yasuda", "cross", "sisko", "herschel_bulkley", "nan_model"} == set(skipped)
+    three_or_more = {m for m in MODELS if len(MODELS[m].parameters) >= 3}   # 4 points: k + 2 > 4
+    assert {"carreau", "carreau_yasuda", "cross", "sisko", "herschel_bulkley"} <= three_or_more
+    assert three_or_more | {"nan_model"} == set(skipped)
     assert "needs at least 6 points" in skipped["carreau"]
     assert "needs at least 5 points" in skipped["sisko"]
     assert {r.model for r in ranking} == set(MODELS) - set(skipped)

@@ -7,22 +7,22 @@ from typing import Optional
 
 import typer
 
-from rheofit.cli.common import console, emit_json, read_overrides, user_errors
-from rheofit.cli.options import COLUMN, UNIT
+from rheofit.cli.common import console, emit_json, import_keywords, read_curves, user_errors
+from rheofit.cli.options import COLUMN, CURVE, SEGMENT, UNIT
 
 
 def fit_files(files, model: str, overrides: Optional[dict] = None):
-    """Read every curve of every file and fit it: [(curve, [FitResult best first])]."""
+    """Read the curves of every file (as ``overrides`` ask, see import_keywords) and fit them:
+    [(curve, [FitResult best first])]; a model given by name is judged against the others."""
     from rheofit.fitting import fit_all
     from rheofit.fitting.support import choose
-    from rheofit.ingest import read_flow_curves
     from rheofit.models import get_model
 
     chosen = None if model == "all" else get_model(model).name
     groups = []
     with console(stderr=True).status("reading") as status:  # shown on a terminal only
         for path in files:
-            for curve in read_flow_curves(path, **(overrides or {})):
+            for curve in read_curves(path, overrides or {}):
                 status.update(f"fitting {curve.name} ({len(groups) + 1} so far)")
                 ranking = fit_all(curve)  # also for one model: its weight among the others
                 results = ranking if chosen is None else [choose(ranking, chosen)]
@@ -39,15 +39,16 @@ def fit_command(
     force: bool = typer.Option(False, "--force", help="Overwrite --out if it exists."),
     column: Optional[list[str]] = COLUMN,
     unit: Optional[list[str]] = UNIT,
+    curve: Optional[str] = CURVE,
+    segment: str = SEGMENT,
 ):
     """Fit viscosity models to flow curves, with 95 % intervals and a ranking."""
     from rheofit.fitting.saved import fits_document
 
-    from rheofit.output import refuse_existing
+    from rheofit.output import check_target
 
-    if not force:
-        refuse_existing(out)
-    groups = fit_files(files, model, read_overrides(column, unit))
+    check_target(out, force=force)
+    groups = fit_files(files, model, import_keywords(column, unit, curve, segment))
     document = fits_document(groups)
     if as_json:
         emit_json(document, out, force)

@@ -18,13 +18,13 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from rheofit.curve import Flag
-from rheofit.errors import GeometryError, ParameterError, UnitError
+from rheofit.errors import GeometryError, ParameterError
 from rheofit.fluid import Fluid, as_fluid
 from rheofit.flow import engine, regime
 from rheofit.flow.geometry import check_geometry
 from rheofit.markup import join, key_values, table, tag
 from rheofit.output import json_safe
-from rheofit.units import parse_quantity
+from rheofit.units import parse_quantity, parse_tolerance
 
 #: the caution every flow output ends with (the CLI and reports reuse it)
 SAFETY_CAUTION = (
@@ -331,10 +331,7 @@ def operating_input(value, kind: str):
 
 
 def _positive(value, name: str, kind: str, example: str) -> float:
-    try:
-        number = parse_quantity(value, kind) if isinstance(value, str) else value
-    except UnitError as exc:
-        raise UnitError(f"{name}: {exc}") from None
+    number = parse_quantity(value, kind, name) if isinstance(value, str) else value
     try:
         number = float(number)
     except (TypeError, ValueError):
@@ -459,8 +456,9 @@ def predict(fluid_or_fit, geometry, flow_rate=None, pressure_drop=None, density=
         Reference viscosity [Pa*s] of the Newtonian comparison; by default the
         model's viscosity at the apparent wall shear rate (tube 4Q/(pi R^3),
         slit 6Q/(W H^2), with the predicted Q when dP is given).
-    tolerance : float
-        Flag ``newtonian_misleads`` when |dP / dP_Newtonian - 1| > tolerance.
+    tolerance : float or str
+        Flag ``newtonian_misleads`` when |dP / dP_Newtonian - 1| > tolerance
+        (a fraction below 1, or text such as '10 %'; see parse_tolerance).
     profile_points : int
         Points of the velocity profile (centre line to wall).
     method : "auto" or "generic"
@@ -486,7 +484,7 @@ def predict(fluid_or_fit, geometry, flow_rate=None, pressure_drop=None, density=
     require_one_operating_point(flow_rate, pressure_drop)
     is_default = density is None
     density = DEFAULT_DENSITY if is_default else _positive(density, "density", "density", "'1050 kg/m^3'")
-    tolerance = _positive(tolerance, "tolerance", "dimensionless", "0.10")
+    tolerance = parse_tolerance(tolerance)
     if not (isinstance(profile_points, (int, np.integer)) and profile_points >= 2):
         raise ParameterError(f"profile_points = {profile_points!r} must be an integer of at least 2, e.g. 101.")
     if flow_rate is not None:

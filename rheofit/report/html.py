@@ -103,12 +103,14 @@ def write_report(path, analysis, *, figures_dir=None, force: bool = False,
                  steps: Steps | None = None) -> Path:
     """Write the report to ``path`` (atomically), and each figure as PNG and SVG into ``figures_dir``.
 
-    Nothing is overwritten without ``force``: the check runs before any
-    work, and raises OutputExistsError naming the file.
+    Nothing is overwritten without ``force`` and no missing folder is made
+    for the report: the checks run before any work, and raise
+    OutputExistsError or OutputPathError naming the path.
     """
-    from rheofit.output import make_folder, refuse_existing, write_atomic
+    from rheofit.output import check_target, make_folder, refuse_existing, write_atomic
     from rheofit.report import plots
 
+    check_target(path, force=force)
     if not force:
         refuse_existing(*report_files(path, analysis, figures_dir))
 
