@@ -99,7 +99,7 @@ def test_the_analysis_json_holds_the_operating_curve_the_figure_draws(analysis, 
     case = document["samples"][0]["cases"][0]
     curve = case["operating_curve"]
     q, dp = _array(curve["flow_rate"]), _array(curve["pressure_drop"])
-    axes = _figure(analysis, "-tube-50-l-min-operating-curve")
+    axes = _figure(analysis, "-tube-50-uL-min-operating-curve")
     q_factor, _ = display.display_scale("flow_rate", q)
     p_factor, _ = display.display_scale("pressure", [np.nanmax(dp), case["prediction"]["pressure_drop"]])
     (model,) = [line for line in axes.lines if str(line.get_label()).endswith(" model")]
@@ -116,7 +116,7 @@ def test_the_analysis_json_holds_the_operating_curve_the_figure_draws(analysis, 
 
 def test_the_analysis_json_holds_the_velocity_profile_the_figure_draws(analysis, document):
     profile = document["samples"][0]["cases"][0]["velocity_profile"]
-    axes = _figure(analysis, "-tube-50-l-min-profile")
+    axes = _figure(analysis, "-tube-50-uL-min-profile")
     (model,) = [line for line in axes.lines if str(line.get_label()).endswith(" model")]
     newtonian = [line for line in axes.lines if line.get_label() == "Newtonian, same flow rate"][0]
     velocity, parabola = _array(profile["velocity"]), _array(profile["newtonian_velocity"])

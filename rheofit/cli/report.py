@@ -90,6 +90,8 @@ def report_command(
     with rich_steps() as steps:
         analysis = analyse(curves, model=model, cases=[case] if case else [], density=rho, steps=steps)
         path = write_report(out, analysis, figures_dir=figures, force=force, steps=steps)
+    for line in analysis.warnings():  # before anything else: the report's numbers rest on these
+        _stdout().print(f"WARNING: {line}", style="bold red", highlight=False, markup=False, soft_wrap=True)
     where = f"; figures in {figures}" if figures is not None else ""
     _stdout().print(f"Report written to {path} ({len(analysis.samples)} sample(s){where}).", highlight=False)
     notes = [f"  • {c.name}: {flag.message}" for c in curves for flag in c.flags]

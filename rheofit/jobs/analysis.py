@@ -114,6 +114,8 @@ class SampleResult:
             "name": self.name,
             "curve": self.curve.to_dict(),
             "chosen": self.chosen.model,
+            "chosen_flags": [flag.to_dict() for flag in self.chosen.flags],
+            "evidence": _evidence(self.chosen),
             "fits": [fit.to_dict() for fit in self.ranking],
             "skipped": [{"model": model, "reason": reason}
                         for model, reason in getattr(self.ranking, "skipped", ())],
@@ -138,6 +140,20 @@ class Analysis:
     title: str = TITLE
     extra: dict = field(default_factory=dict)
 
+    def warnings(self) -> list[str]:
+        """One line per sample whose chosen model the data reject (or whose ranking left one
+        model), and the comparison's: shown before any number."""
+        from rheofit.fitting.evidence import Evidence
+
+        lines = []
+        for sample in self.samples:
+            warning = Evidence.of(sample.chosen).warning()
+            if warning:
+                lines.append(f"{sample.name}: {warning}")
+        if self.comparison is not None and self.comparison.warning:
+            lines.append(f"lot comparison: {self.comparison.warning}")
+        return lines
+
     def to_dict(self) -> dict:
         """A JSON-able dict of everything the report shows (SI units, nan as null)."""
         from rheofit.flow import SAFETY_CAUTION
@@ -150,28 +166,29 @@ class Analysis:
             "samples": [sample.to_dict() for sample in self.samples],
             "comparison": None if self.comparison is None else self.comparison.to_dict(),
             "comparison_note": self.comparison_note,
+            "warnings": self.warnings(),
             "caution": SAFETY_CAUTION,
         }
 
 
+def _evidence(fit) -> dict:
+    """The chosen fit's evidence as JSON (misfit, runs test, Akaike weight, unresolved, forced)."""
+    from rheofit.fitting.evidence import Evidence
+
+    return Evidence.of(fit).to_dict()
+
+
 def fit_curve(curve, model: str | None = None):
-    """(ranking best first, chosen fit): every model ranked; ``model`` picks the chosen one.
+    """(ranking best first, chosen fit): every model ranked; ``model`` picks the chosen one,
+    flagged ``forced_model`` when the data reject it (:func:`rheofit.fitting.support.choose`).
 
     A named model that could not be fitted raises FitError (with the reason).
     """
-    from rheofit.errors import FitError
     from rheofit.fitting import fit_all
-    from rheofit.models import get_model
+    from rheofit.fitting.support import choose
 
     ranking = fit_all(curve)
-    if model is None:
-        return ranking, ranking[0]
-    name = get_model(model).name
-    for result in ranking:
-        if result.model == name:
-            return ranking, result
-    reason = dict(ranking.skipped).get(name, "it was not fitted")
-    raise FitError(f"The {name} model could not be used for curve '{curve.name}': {reason}")
+    return ranking, choose(ranking, model)
 
 
 def predict_cases(chosen, cases, density=None) -> tuple[CaseResult, ...]:

@@ -5,12 +5,15 @@ can be refused first); each :class:`PlannedFigure` draws its figure on
 ``make()``.
 
 >>> slug("Lot <A> 37 °C")
-'lot-a-37-c'
+'Lot-A-37-degC'
+>>> slug("tube, 10 µL/min")
+'tube-10-uL-min'
 """
 
 from __future__ import annotations
 
 import re
+import unicodedata
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -28,17 +31,30 @@ class PlannedFigure:
     make: Callable[[], object]
 
 
+#: characters spelled out in file names, so that units stay readable (µL is not L)
+SPELLED = {"\u03bc": "u", "°": "deg", "\u2126": "Ohm"}
+
+
 def slug(text: str) -> str:
-    """A file-name-safe lower-case stem of ``text`` ('figure' when nothing is left)."""
-    stem = re.sub(r"[^a-z0-9]+", "-", str(text).lower()).strip("-")
+    """A file-name-safe stem of ``text`` ('figure' when nothing is left).
+
+    Units stay readable: the micro sign becomes 'u' (``10-uL-min``, not
+    ``10-l-min``), accents are folded (NFKD), and the case is kept, since
+    'mPa' and 'MPa' differ by a factor of 10^9.
+    """
+    folded = "".join(SPELLED.get(c, c) for c in unicodedata.normalize("NFKD", str(text))
+                     if not unicodedata.combining(c))
+    stem = re.sub(r"[^A-Za-z0-9]+", "-", folded).strip("-")
     return stem[:60] or "figure"
 
 
 def _unique(stem: str, taken: set[str]) -> str:
+    """``stem``, or ``stem-2``, ... : unique ignoring case (a case-insensitive file system holds
+    'A.png' and 'a.png' as one file)."""
     key, n = stem, 2
-    while key in taken:
+    while key.lower() in taken:
         key, n = f"{stem}-{n}", n + 1
-    taken.add(key)
+    taken.add(key.lower())
     return key
 
 

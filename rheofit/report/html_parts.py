@@ -70,12 +70,18 @@ code { font-family: ui-monospace, "DejaVu Sans Mono", Menlo, Consolas, monospace
 .verdict-bad { color: #8a1c1c; font-weight: 600; }
 table { border-collapse: collapse; margin: .5rem 0 1rem; font-size: .9rem; }
 th, td { border-bottom: 1px solid var(--line); padding: .3rem .6rem; text-align: left; vertical-align: top; }
-thead th { background: var(--soft); border-bottom: 2px solid var(--line); white-space: nowrap; }
+thead th { background: var(--soft); border-bottom: 2px solid var(--line); }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
 table.kv th { font-weight: normal; color: var(--muted); background: none; white-space: nowrap; }
 caption { caption-side: bottom; text-align: left; color: var(--muted); font-size: .82rem; padding-top: .3rem; }
+.warning { border-left: 6px solid #8a1c1c; background: #fdeeee; padding: .5rem .9rem; border-radius: 4px; }
+/* tables reflow to the page: headers and cells wrap (a long token breaks as a last resort), so no
+   column is cut off at 1024 px; .scroll stays as the fallback for a table that still cannot fit */
+table { max-width: 100%; }
+td, th { overflow-wrap: break-word; }
 .scroll { overflow-x: auto; }
 .nowrap { white-space: nowrap; }
+@media (max-width: 1300px) { td .nowrap { white-space: normal; } }
 .figures { display: grid; grid-template-columns: repeat(auto-fill, minmax(440px, 1fr)); gap: 1.2rem; }
 figure { margin: .5rem 0; }
 figure svg { width: 100%; height: auto; display: block; }

@@ -7,6 +7,8 @@ import math
 import numpy as np
 
 from rheofit.fitting.statistics import CORRELATION_SHOWN_ABOVE, akaike_weights
+from rheofit.fitting.support import RANKING_MIN_POINTS, not_ranked_lines
+from rheofit.lots import EVIDENCE_COLUMNS
 from rheofit.report.display import number, shown
 from rheofit.report.html_parts import Raw, bullets, esc, join, key_values, percent, table, tag
 
@@ -31,31 +33,86 @@ def _figures(items) -> Raw:
 
 # --- summary --------------------------------------------------------------------
 
-def _case_result(p) -> str:
+def _misfit_cell(fit) -> str:
+    """'1.9 % (runs p 0.43)': the typical misfit and the runs test of a fit."""
+    from rheofit.fitting.evidence import Evidence
+
+    evidence = Evidence.of(fit)
+    runs = "runs test n/a" if evidence.runs_p_value is None else f"runs p {evidence.runs_p_value:.2g}"
+    pattern = ", PATTERN" if evidence.pattern else ""
+    return f"{evidence.misfit_percent:.2g} % ({runs}{pattern})"
+
+
+def _weight_cell(fit) -> str:
+    support = fit.support
+    if support is None:
+        return "—"
+    if support.sole:
+        return f"only model ranked ({support.n_points} points)"
+    thin = f"; {support.n_points} points only" if support.thin else ""
+    return f"{support.akaike_weight:.3f} ({support.rank} of {support.ranked}{thin})"
+
+
+def _unresolved_cell(fit) -> str:
+    names = [name for name, est in fit.params.items() if not est.resolved]
+    return ", ".join(names) or "none"
+
+
+def _case_cells(p) -> list[str]:
+    """result, 95 % interval, wall shear rate against the measured range; a sample at rest shows
+    its threshold and nothing else."""
+    from rheofit.flow.headline import extrapolation_factor, solved
+
     if not bool(_first(p.flowing)):
-        return f"no flow (threshold {shown(p.threshold_pressure_drop, 'pressure')})"
-    return f"{shown(_first(p.pressure_drop), 'pressure')} at {shown(_first(p.flow_rate), 'flow_rate')}"
+        return [f"no flow: starts above {shown(p.threshold_pressure_drop, 'pressure')}", "—", "—"]
+    name = solved(p)
+    kind = "pressure" if name == "pressure_drop" else "flow_rate"
+    ci = getattr(p, name + "_ci95")
+    interval = "—" if ci is None else f"{shown(_first(ci[0]), kind)} to {shown(_first(ci[1]), kind)}"
+    factor = extrapolation_factor(p)
+    if not math.isfinite(factor):
+        reach = "—"
+    elif factor <= 1.0:
+        reach = "inside the measured range"
+    else:
+        low, high = p.fluid.shear_rate_range
+        side = "above" if _first(p.wall_shear_rate) > high else "below"
+        reach = f"EXTRAPOLATED {factor:.3g}× {side} the measured {number(low)} to {number(high)} 1/s"
+    word = "Δp" if name == "pressure_drop" else "Q"
+    return [f"{word} = {shown(_first(getattr(p, name)), kind)}", interval, reach]
 
 
 def summary_section(analysis) -> Raw:
-    """The samples at a glance, and every flow case's result."""
+    """The samples at a glance, with the evidence of each chosen model, and every flow case's
+    result with its 95 % interval and where its wall shear rate lies; warnings first."""
     rows = []
     for s in analysis.samples:
         low, high = s.curve.shear_rate_range
-        rows.append([s.name, s.curve.source or "in memory", str(len(s.curve)),
-                     f"{number(low)} to {number(high)}", s.chosen.declaration.title,
-                     f"{s.chosen.rms_log_residual:.3f}", str(len(s.chosen.flags) + len(s.curve.flags))])
-    parts = [tag("h2", "Summary", id="summary"),
-             table(["sample", "file", "points", "shear rate [1/s]", "chosen model", "rms(ln)", "flags"],
-                   rows, caption="rms(ln): typical relative misfit of the chosen model (0.02 ≈ 2 %).")]
-    cases = [[s.name, tag("a", c.case.label, href=f"#sample-{i}-case-{j}"), c.case.geometry.describe(),
-              _case_result(c.prediction), f"{number(_first(c.prediction.wall_shear_stress))} Pa",
-              _ratio(c.prediction)]
-             for i, s in enumerate(analysis.samples) for j, c in enumerate(s.cases)]
+        rows.append([s.name, str(len(s.curve)), f"{number(low)} to {number(high)}",
+                     s.chosen.declaration.title, _misfit_cell(s.chosen), _weight_cell(s.chosen),
+                     _unresolved_cell(s.chosen), str(len(s.chosen.flags) + len(s.curve.flags))])
+    parts = [tag("h2", "Summary", id="summary")]
+    parts += [tag("p", join(tag("strong", "Warning: "), line), class_="warning") for line in analysis.warnings()]
+    parts.append(table(["sample", "points", "shear rate [1/s]", "chosen model", "misfit (runs test)",
+                        "Akaike weight (rank)", "unresolved", "flags"], rows,
+                       caption="misfit: typical relative deviation of the chosen model, 100 (exp(rms ln) − 1) %, "
+                               "with the runs test on the residual signs (PATTERN: the model misses the "
+                               "curve's shape); Akaike weight among the models fitted to the sample."))
+    cases = []
+    for i, s in enumerate(analysis.samples):
+        for j, c in enumerate(s.cases):
+            p = c.prediction
+            flowing = bool(_first(p.flowing))
+            cases.append([s.name, join(tag("a", c.case.label, href=f"#sample-{i}-case-{j}"), Raw("<br>"),
+                                       tag("span", c.case.geometry.describe(), class_="quiet")),
+                          *_case_cells(p),
+                          f"{number(_first(p.wall_shear_stress))} Pa" if flowing else "—",
+                          _ratio(p) if flowing else "—"])
     if cases:
-        parts.append(table(["sample", "case", "geometry", "result", "wall shear stress",
-                            "model / Newtonian Δp"], cases,
-                           caption="Newtonian Δp: the pressure drop with the viscosity the model has at "
+        parts.append(table(["sample", "case", "result", "95 % interval", "wall shear rate",
+                            "wall shear stress", "model / Newtonian Δp"], cases,
+                           caption="95 % interval: from the parameter uncertainty of the chosen fit. "
+                                   "Newtonian Δp: the pressure drop with the viscosity the model has at "
                                    "the apparent wall shear rate; see each case for details."))
     return join(tag("section", join(*parts)))
 
@@ -90,21 +147,34 @@ def _sample_facts(sample) -> Raw:
     return key_values(pairs)
 
 
+def ranking_heading(sample) -> str:
+    """'Models ranked by AICc', or what a ranking on few points or of one model is."""
+    n, ranked = len(sample.curve), len(sample.ranking)
+    if ranked == 1:
+        return f"Only one model could be ranked on {n} points"
+    if n < RANKING_MIN_POINTS:
+        return f"Models ranked by AICc on only {n} points"
+    return "Models ranked by AICc"
+
+
 def ranking_table(sample) -> Raw:
-    """Every model fitted, best first by AICc, with Akaike weights and flags."""
+    """Every model fitted, best first by AICc, with Akaike weights and flags; a ranking on few
+    points, or of one model, says so first."""
     ranking = sample.ranking
     best = min((r.aicc for r in ranking if math.isfinite(r.aicc)), default=math.nan)
     rows = []
     for i, (r, w) in enumerate(zip(ranking, akaike_weights([r.aicc for r in ranking])), start=1):
-        mark = " (chosen)" if r is sample.chosen else ""
+        mark = " (chosen)" if r.model == sample.chosen.model else ""
         rows.append([str(i), r.declaration.title + mark, str(r.n_params), f"{r.aicc:.1f}",
                      f"{r.aicc - best:.1f}", f"{w:.3f}", f"{r.bic:.1f}", f"{r.rms_log_residual:.3f}",
                      _flag_words(r.flags)])
     caption = ("AICc: Akaike information criterion with the small-sample correction (lower is "
                "better); ΔAICc > 2 is a real difference, > 10 a decisive one. weight: Akaike weight. "
                "rms(ln): typical relative misfit.")
-    return table(["#", "model", "k", "AICc", "ΔAICc", "weight", "BIC", "rms(ln)", "flags"], rows,
-                 caption=caption)
+    caveat = getattr(ranking, "caveat", "")
+    ranked = table(["#", "model", "k", "AICc", "ΔAICc", "weight", "BIC", "rms(ln)", "flags"], rows,
+                   caption=caption)
+    return join(tag("p", tag("strong", caveat), class_="warning"), ranked) if caveat else ranked
 
 
 def not_fitted(sample) -> Raw:
@@ -112,8 +182,7 @@ def not_fitted(sample) -> Raw:
     skipped = sample.ranking.skipped
     if not skipped:
         return Raw("")
-    return join(tag("p", "Not fitted:"),
-                bullets([join(tag("strong", name), Raw(": "), why) for name, why in skipped]))
+    return join(tag("p", "Not fitted, so not ranked:"), bullets(not_ranked_lines(len(sample.curve), skipped)))
 
 
 def parameter_table(fit) -> Raw:
@@ -158,7 +227,7 @@ def sample_section(i: int, sample, placed: dict) -> Raw:
     fit = sample.chosen
     parts = [
         tag("h2", f"Sample: {sample.name}", id=f"sample-{i}"), _sample_facts(sample),
-        tag("h3", "Models ranked by AICc"), tag("div", ranking_table(sample), class_="scroll"),
+        tag("h3", ranking_heading(sample)), tag("div", ranking_table(sample), class_="scroll"),
         not_fitted(sample),
         tag("h3", f"Chosen model: {fit.declaration.title}"),
         tag("p", join(tag("code", fit.declaration.equation), Raw(" — "), fit.declaration.reference)),
@@ -203,19 +272,16 @@ def _interval_cell(p, attribute, how) -> str:
 
 
 def prediction_rows(p, fit) -> list[list[str]]:
-    """(quantity, value, 95 % interval) rows of one operating point."""
-    flowing = bool(_first(p.flowing))
-    # a sample at rest has nothing uncertain to show but its threshold
-    rows = [[label, _value(_first(getattr(p, attr)), how), _interval_cell(p, ci, how) if flowing else "—"]
+    """(quantity, value, 95 % interval) rows of one flowing operating point (a sample at rest
+    shows its threshold only: :func:`headline_block`)."""
+    rows = [[label, _value(_first(getattr(p, attr)), how), _interval_cell(p, ci, how)]
             for label, attr, ci, how in _QUANTITIES]
     low, high = fit.shear_rate_range
     rate = _first(p.wall_shear_rate)
     where = "inside" if low <= rate <= high else "OUTSIDE"
-    if flowing:
-        rows[5][1] += f" ({where} the measured {number(low)} to {number(high)} 1/s)"
+    rows[5][1] += f" ({where} the measured {number(low)} to {number(high)} 1/s)"
     if p.threshold_pressure_drop > 0:
         rows.append(["threshold pressure drop (flow starts)", shown(p.threshold_pressure_drop, "pressure"), "—"])
-    if p.threshold_pressure_drop > 0 and flowing:
         rows.append(["plug size / channel half-size", f"{_first(p.plug_fraction):.3f}", "—"])
     regime = "laminar" if bool(_first(p.laminar)) else "NOT laminar"
     rows.append(["generalised Reynolds number", f"{number(_first(p.reynolds))} ({regime}; critical "
@@ -226,11 +292,7 @@ def prediction_rows(p, fit) -> list[list[str]]:
 
 
 def newtonian_text(p) -> str:
-    """The Newtonian comparison in words."""
-    if not bool(_first(p.flowing)):
-        return (f"The wall shear stress ({number(_first(p.wall_shear_stress))} Pa) does not "
-                f"exceed the yield stress, so the sample stays at rest. It starts to flow only above a "
-                f"pressure drop of {shown(p.threshold_pressure_drop, 'pressure')} over this length.")
+    """The Newtonian comparison in words (of a flowing operating point)."""
     text = (f"A Newtonian estimate with η = {number(_first(p.newtonian_viscosity))} Pa·s "
             f"({p.newtonian_reference}) gives {shown(_first(p.newtonian_pressure_drop), 'pressure')}; "
             f"the model needs {number(_first(p.newtonian_ratio), 3)}× that.")
@@ -241,17 +303,33 @@ def newtonian_text(p) -> str:
     return text
 
 
+def headline_block(p) -> Raw:
+    """The prediction's headline: the warning (when the data reject the chosen model, or one model
+    was left), the answer with its 95 % interval, where the wall shear rate lies, the evidence."""
+    top = p.headline(shown)
+    parts = [tag("p", join(tag("strong", "Warning: "), top.warning), class_="warning")] if top.warning else []
+    parts.append(tag("p", tag("strong", top.answer[0].upper() + top.answer[1:] + ".")))
+    for part in (top.reach, top.evidence):
+        if part:
+            parts.append(tag("p", part[0].upper() + part[1:] + "."))
+    return join(*parts)
+
+
 def case_block(i: int, j: int, result, fit, figures) -> Raw:
-    """One flow case: prediction table, Newtonian comparison, flags, figures."""
+    """One flow case: headline, prediction table, Newtonian comparison, flags, figures.  A sample
+    at rest shows its threshold (the headline) and nothing else."""
     p, case = result.prediction, result.case
+    heading = [tag("h3", f"Flow: {case.label}", id=f"sample-{i}-case-{j}"),
+               tag("p", f"{fit.declaration.title} model of {fit.name or 'the sample'} in a {case.describe()}."),
+               headline_block(p)]
+    if not bool(_first(p.flowing)):
+        return join(*heading, _figures(figures))
     method = getattr(p, "uncertainty_method", None)
     note = f"95 % intervals: {method}." if method else "No intervals were computed for this prediction."
     return join(
-        tag("h3", f"Flow: {case.label}", id=f"sample-{i}-case-{j}"),
-        tag("p", f"{fit.declaration.title} model of {fit.name or 'the sample'} in a {case.describe()}."),
+        *heading,
         table(["quantity", "value", "95 % interval"], prediction_rows(p, fit), caption=note),
-        tag("p", join(tag("strong", "Newtonian comparison. " if bool(_first(p.flowing)) else "No flow. "),
-                      newtonian_text(p))),
+        tag("p", join(tag("strong", "Newtonian comparison. "), newtonian_text(p))),
         tag("p", tag("strong", "Flags")), bullets([f.message for f in p.flags], empty="No flags."),
         _figures(figures),
     )
@@ -259,8 +337,8 @@ def case_block(i: int, j: int, result, fit, figures) -> Raw:
 
 # --- lot comparison ---------------------------------------------------------------------
 
-#: comparison-table columns left out (the verdict is listed in words below the table)
-_HIDDEN = ("failed", "verdict")
+#: comparison-table columns left out (the verdict and its evidence are listed in words below the table)
+_HIDDEN = ("failed", "verdict", *EVIDENCE_COLUMNS)
 
 
 def _frame_cell(column: str, value) -> str:
@@ -324,7 +402,10 @@ def comparison_section(analysis, figures) -> Raw:
             return Raw("")
         return tag("section", join(tag("h2", "Lot comparison", id="comparison"),
                                    tag("p", analysis.comparison_note)))
-    parts = [tag("h2", "Lot comparison", id="comparison"), tag("p", _comparison_intro(comparison))]
+    parts = [tag("h2", "Lot comparison", id="comparison")]
+    if comparison.warning:
+        parts.append(tag("p", join(tag("strong", "Warning: "), comparison.warning), class_="warning"))
+    parts.append(tag("p", _comparison_intro(comparison)))
     units = {p.name: p.unit for f in comparison.fits for p in f.declaration.parameters}
     parts.append(tag("div", comparison_table(comparison.table, units), class_="scroll"))
     p_value = comparison.p_value
@@ -351,7 +432,8 @@ def _comparison_intro(comparison) -> str:
 def _verdict_lines(comparison) -> list[str]:
     from rheofit.report.figures_compare import verdicts
 
-    return [f"{c.name}: {v}" for c, v in zip(comparison.curves, verdicts(comparison)) if v]
+    return [(f"{c.name}: {v}", [f"evidence: {comparison.evidence(i, shown)}"])
+            for i, (c, v) in enumerate(zip(comparison.curves, verdicts(comparison))) if v]
 
 
 # --- method --------------------------------------------------------------------------------
