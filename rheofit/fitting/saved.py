@@ -12,7 +12,8 @@ VERSION = 1
 
 
 def fits_document(groups) -> dict:
-    """JSON-able document for ``[(curve, [FitResult, ...]), ...]`` (fits best first)."""
+    """JSON-able document for ``[(curve, [FitResult, ...]), ...]`` (fits best first; for a ranking
+    also the models not fitted, with why)."""
     return {
         "kind": KIND,
         "version": VERSION,
@@ -25,6 +26,8 @@ def fits_document(groups) -> dict:
                 "flags": [flag.to_dict() for flag in curve.flags],
                 "best": results[0].model if results else None,
                 "fits": [result.to_dict() for result in results],
+                "not_fitted": [{"model": model, "reason": reason}
+                               for model, reason in getattr(results, "skipped", ())],
             }
             for curve, results in groups
         ],
