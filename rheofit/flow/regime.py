@@ -17,7 +17,9 @@ transition (a Newtonian fluid then has Re = 2100).  For a power law this
 gives Re_crit = 6464 n (2+n)^((2+n)/(1+n)) / (1+3n)^2; Hanks (1963, AIChE J.
 9, 306-309) applied the same criterion to Bingham plastics.  Here Z_max is
 evaluated on the predicted profile of each operating point for any model,
-so Re_crit = Re * 808 / Z_max (Z scales with rho at a fixed profile shape).
+so Re_crit = Re * 808 / Z_max (Z scales with rho at a fixed profile shape);
+for a yield-stress fluid the value shown is Hanks' single one for the fluid,
+Re at the point where Z_max reaches 808 (:func:`transition_reynolds`).
 For a slit the same parameter (h for R) is used with the threshold set so
 that a Newtonian fluid gives Re_crit = 2100 on the hydraulic diameter: an
 approximation, as the criterion was established for pipes.
@@ -93,7 +95,8 @@ _CRITERION_TEXT = {
 def criterion(fluid, geometry) -> str:
     """Name of the laminar criterion used for this fluid and geometry."""
     source = (
-        "Hanks (1963) for yield-stress fluids" if fluid.yield_stress > 0
+        "Hanks (1963) for yield-stress fluids, one critical Reynolds number for the fluid (where Z_max "
+        "first reaches the threshold)" if fluid.yield_stress > 0
         else "Ryan & Johnson (1959)"
     )
     return _CRITERION_TEXT[geometry.kind].format(source=source)
