@@ -413,6 +413,9 @@ class FluidMemo:
             self._store.popitem(last=False)
         return value
 
+    def __len__(self) -> int:
+        return len(self._store)
+
     def clear(self) -> None:
         self._store.clear()
 
