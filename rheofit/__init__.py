@@ -6,7 +6,7 @@ stay fast.
 
 The map (dependencies point down this list, never up; tests/test_layout.py checks it):
 
-- ground floor: ``errors``, ``units``, ``output``, ``progress``, ``curve``
+- ground floor: ``errors``, ``units``, ``output``, ``progress``, ``curve``, ``markup`` (HTML escaping)
 - ``models/``   ADD A MODEL HERE: declaration, catalogue, closed forms
 - ``fluid``     a model with given parameter values
 - ``ingest/``   ADD AN INPUT FORMAT HERE: text exports -> FlowCurve
@@ -31,7 +31,7 @@ import importlib
 # of the same name, is what ``rheofit.fluid`` means.
 from rheofit.fluid import Fluid, fluid
 
-__version__ = "0.1.0"
+from rheofit.version import VERSION as __version__
 
 _EXPORTS = {
     "FlowCurve": "rheofit.curve",

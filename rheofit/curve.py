@@ -7,6 +7,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from rheofit.errors import ParameterError
+from rheofit.output import json_safe
 
 
 @dataclass(frozen=True)
@@ -96,6 +97,15 @@ class FlowCurve:
 
     def __len__(self) -> int:
         return int(self.shear_rate.size)
+
+    def to_dict(self) -> dict:
+        """A JSON-able dict: the data (SI, nan as null), name, source, temperature, flags, metadata."""
+        return json_safe({
+            "name": self.name, "source": self.source, "temperature": self.temperature,
+            "shear_rate": self.shear_rate, "viscosity": self.viscosity, "stress": self.stress,
+            "segment": self.segment, "flags": [flag.to_dict() for flag in self.flags],
+            "metadata": self.metadata,
+        })
 
     @property
     def shear_rate_range(self) -> tuple[float, float]:

@@ -7,8 +7,13 @@ CLI prints ``str(error)`` and exits with code 2; it never shows a traceback.
 
 from __future__ import annotations
 
+import contextlib
+import contextvars
 import difflib
 from collections.abc import Iterable
+
+#: "python" or "command line": how messages name an option (``curve=2`` or ``--curve 2``)
+_SPELLING = contextvars.ContextVar("rheofit_option_spelling", default="python")
 
 
 class RheofitError(Exception):
@@ -34,6 +39,10 @@ class ParameterError(RheofitError, ValueError):
     """A parameter name or value does not fit the model."""
 
 
+class DeclarationError(RheofitError, TypeError):
+    """A model declaration disagrees with itself (names the model and the mismatched names)."""
+
+
 class FitError(RheofitError, RuntimeError):
     """A fit could not be carried out on the given data."""
 
@@ -43,7 +52,33 @@ class GeometryError(RheofitError, ValueError):
 
 
 class OutputExistsError(RheofitError, FileExistsError):
-    """An output file exists and ``force`` was not given."""
+    """An output file exists and ``force`` was not given, or a folder stands where a file goes."""
+
+
+class OutputPathError(RheofitError, FileNotFoundError):
+    """An output would go into a folder that does not exist (it is never created silently)."""
+
+
+def spelled(python: str, command_line: str) -> str:
+    """How a message names an option: the Python keyword, or the option when run from the CLI.
+
+    >>> spelled("viscosity_column=2", "--column viscosity=2")
+    'viscosity_column=2'
+    >>> with command_line_spelling():
+    ...     spelled("viscosity_column=2", "--column viscosity=2")
+    '--column viscosity=2'
+    """
+    return command_line if _SPELLING.get() == "command line" else python
+
+
+@contextlib.contextmanager
+def command_line_spelling():
+    """Within this block, messages name command-line options (set by the CLI around a command)."""
+    token = _SPELLING.set("command line")
+    try:
+        yield
+    finally:
+        _SPELLING.reset(token)
 
 
 def nearest(word: str, choices: Iterable[str]) -> str:

@@ -42,6 +42,9 @@ import numpy as np
 
 from rheofit.curve import Flag, FlowCurve
 from rheofit.errors import FitError, GeometryError, ParameterError, choice_message
+from rheofit.markup import join, table, tag
+from rheofit.output import json_safe
+from rheofit.units import parse_tolerance
 
 __all__ = ["compare", "Comparison", "same_curve_test", "shared_range", "lot_labels"]
 
@@ -122,18 +125,18 @@ class Comparison:
             "version": 1,
             "model": self.model,
             "model_choice": self.model_choice,
-            "aicc_totals": _json(self.aicc_totals),
+            "aicc_totals": json_safe(self.aicc_totals),
             "lots": list(self.lots),
             "reference": self.reference,
             "reference_lot": self.lots[self.reference],
             "tolerance": self.tolerance,
-            "shared_range": _json(list(self.shared_range)),
+            "shared_range": json_safe(list(self.shared_range)),
             "geometry": None if self.geometry is None else self.geometry.to_dict(),
-            "operating_point": _json(self.operating_point),
-            "p_value": _json(self.p_value),
-            "same_curve_test": _json(self.same_curve),
-            "table": _json(self.table.to_dict(orient="records")),
-            "flags": [_json(flag.to_dict()) for flag in self.flags],
+            "operating_point": json_safe(self.operating_point),
+            "p_value": json_safe(self.p_value),
+            "same_curve_test": json_safe(self.same_curve),
+            "table": json_safe(self.table.to_dict(orient="records")),
+            "flags": [json_safe(flag.to_dict()) for flag in self.flags],
             "fits": [fit.to_dict() for fit in self.fits],
             "predictions": [p.to_dict() for p in self.predictions],
             "caution": SAFETY_CAUTION,
@@ -160,20 +163,45 @@ class Comparison:
                 f"reference={self.reference}, p_value={self.p_value:.3g}, "
                 f"within={[bool(v) for v in self.table['within_tolerance']]})")
 
+    def _repr_html_(self) -> str:
+        """A compact HTML table for notebooks (every user string escaped)."""
+        return _html(self)
 
-def _json(value):
-    """Numbers, strings, lists and dicts made JSON-safe (numpy unwrapped, nan -> None)."""
-    if isinstance(value, (bool, np.bool_)):
-        return bool(value)
-    if isinstance(value, (int, np.integer)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        return float(value) if math.isfinite(value) else None
-    if isinstance(value, dict):
-        return {str(k): _json(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple, np.ndarray)):
-        return [_json(v) for v in value]
-    return value if value is None or isinstance(value, str) else str(value)
+    def to_frame(self):
+        """The table (one row per lot, columns as in :attr:`table`) as a new pandas DataFrame."""
+        return self.table.copy()
+
+
+def _html_row(c: Comparison, i: int, row: dict) -> list[str]:
+    fit = c.fits[i]
+    cells = [row["lot"] + (" (reference)" if i == c.reference else "")]
+    cells += [f"{fit.params[n].value:.4g} {fit.params[n].interval_text()}"
+              for n in fit.declaration.parameter_names]
+    if c.solved:
+        q = c.solved
+        cells += [f"{row[q]:.4g} ({row[q + '_low']:.4g} to {row[q + '_high']:.4g})", _pct(row["deviation"])]
+    return cells + [_pct(row["max_viscosity_deviation"]), row["verdict"]]
+
+
+def _html(c: Comparison) -> str:
+    """The heading, one row per lot, the flags and the caution."""
+    from rheofit.flow.predict import SAFETY_CAUTION
+
+    head = (f"Lots compared with the {c.model} model ({c.model_choice}); reference lot "
+            f"{c.lots[c.reference]}; tolerance {100 * c.tolerance:g} %")
+    units = [f"{spec.name} [{spec.unit}]" for spec in c.fits[0].declaration.parameters]
+    headers = ["lot", *units]
+    if c.solved:
+        headers += [f"{_WORDS[c.solved]} [{_UNITS[c.solved]}] (95 %)", "deviation"]
+    headers += ["largest viscosity deviation", "verdict"]
+    rows = [_html_row(c, i, row) for i, row in enumerate(c.table.to_dict(orient="records"))]
+    test = (f"same-curve test: p = {c.p_value:.3g}" if math.isfinite(c.p_value)
+            else "same-curve test: not available")
+    parts = [tag("p", tag("strong", head)), table(headers, rows, caption=test)]
+    if c.flags:
+        parts.append(table(["flag", "message"], [[f.code, f.message] for f in c.flags]))
+    parts.append(tag("p", SAFETY_CAUTION))
+    return join(*parts)
 
 
 def _pct(x: float, sign: bool = True) -> str:
@@ -248,20 +276,6 @@ def lot_labels(curves) -> tuple[str, ...]:
         seen[base] = seen.get(base, 0) + 1
         labels.append(base if seen[base] == 1 else f"{base} ({seen[base]})")
     return tuple(labels)
-
-
-def _check_tolerance(tolerance) -> float:
-    from rheofit.units import parse_quantity
-
-    try:
-        value = parse_quantity(tolerance, "dimensionless") if isinstance(tolerance, str) else float(tolerance)
-    except (TypeError, ValueError):
-        value = math.nan
-    if not (math.isfinite(value) and value > 0):
-        raise ParameterError(
-            f"tolerance = {tolerance!r} must be a positive fraction or percentage, e.g. 0.1 or '10 %'."
-        )
-    return value
 
 
 def _check_reference(reference, labels) -> int:
@@ -498,12 +512,15 @@ def _table(labels, fits, predictions, solved, reference, shared, tolerance):
     return pd.DataFrame(rows)
 
 
-def _lot_flags(labels, fits, predictions) -> list[Flag]:
+def _lot_flags(labels, curves, fits, predictions) -> list[Flag]:
+    """Per lot: every flag of its import (a unit read as SI, dropped rows, ...) and the LOT_FLAGS
+    of its fit and prediction."""
     flags, seen = [], set()
     for i, label in enumerate(labels):
         sources = [fits[i].flags] + ([predictions[i].flags] if predictions else [])
-        for flag in (f for group in sources for f in group):
-            if flag.code not in LOT_FLAGS or (i, flag.code, flag.message) in seen:
+        found = [*curves[i].flags, *(f for group in sources for f in group if f.code in LOT_FLAGS)]
+        for flag in found:
+            if (i, flag.code, flag.message) in seen:
                 continue
             seen.add((i, flag.code, flag.message))
             flags.append(Flag(flag.code, f"Lot '{label}': {flag.message}", {**flag.data, "lot": label}))
@@ -578,7 +595,7 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
     """
     curves = _check_curves(curves)
     labels = lot_labels(curves)
-    tolerance = _check_tolerance(tolerance)
+    tolerance = parse_tolerance(tolerance)
     reference = _check_reference(reference, labels)
     geometry, point = _operating(geometry, flow_rate, pressure_drop)
     shared = shared_range(curves, labels)
@@ -596,7 +613,7 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
     solved = _QUANTITY[next(iter(point))] if point else None
     table = _table(labels, fits, predictions, solved, reference, shared, tolerance)
     flags = _comparison_flags(labels, fits, predictions, shared, rankings, model_name, geometry)
-    flags += _lot_flags(labels, fits, predictions)
+    flags += _lot_flags(labels, curves, fits, predictions)
     if not math.isfinite(test["p_value"]):
         flags.append(Flag("test_unavailable", f"The same-curve test could not be made: {test.get('note', '')}.",
                           {}))

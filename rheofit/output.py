@@ -1,12 +1,48 @@
-"""Writing outputs safely: atomically, and never over an existing file unless asked."""
+"""Writing outputs: values made JSON-safe, files written atomically and never over an
+existing file unless asked."""
 
 from __future__ import annotations
 
+import math
 import os
 import tempfile
 from pathlib import Path
 
-from rheofit.errors import OutputExistsError
+import numpy as np
+
+from rheofit.errors import OutputExistsError, OutputPathError
+
+
+def finite_or_none(value) -> float | None:
+    """A JSON-safe float: None for None, nan and +/-inf (JSON has no nan)."""
+    if value is None:
+        return None
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+def json_safe(value):
+    """Numbers, strings, lists and dicts made JSON-safe, recursively.
+
+    numpy scalars and arrays are unwrapped, nan and +/-inf become None, dict
+    keys become strings, anything else unknown becomes its ``str``.
+
+    >>> json_safe({"a": np.array([1.5, np.nan]), 2: np.int64(3), "ok": np.bool_(True)})
+    {'a': [1.5, None], '2': 3, 'ok': True}
+    """
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        return finite_or_none(value)
+    if isinstance(value, np.ndarray):
+        return json_safe(value.tolist())
+    if isinstance(value, dict):
+        return {str(k): json_safe(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [json_safe(v) for v in value]
+    return value if value is None or isinstance(value, str) else str(value)
 
 
 def _umask() -> int:
@@ -15,33 +51,74 @@ def _umask() -> int:
     return mask
 
 
+def _blocked(folder: Path):
+    """Why files cannot go into ``folder``, as (error class, reason), or None when they can."""
+    if folder.is_dir():
+        return None
+    if folder.exists():
+        return OutputExistsError, f"'{folder}' is a file, not a folder; choose another path"
+    above = next((p for p in folder.parents if p.exists()), None)
+    if above is not None and not above.is_dir():
+        return OutputExistsError, f"'{above}' is a file, not a folder; choose another path"
+    return OutputPathError, f"the folder '{folder}' does not exist; create it first or choose another path"
+
+
 def make_folder(folder) -> Path:
-    """Create ``folder`` (and its parents) for outputs, or say in one sentence why not."""
+    """Create the output ``folder`` itself (never missing folders above it), or say why not.
+
+    Raises OutputPathError when the folder above is missing, OutputExistsError
+    when a file stands in the way.
+    """
     folder = Path(folder)
-    try:
-        folder.mkdir(parents=True, exist_ok=True)
-    except (FileExistsError, NotADirectoryError):
-        raise OutputExistsError(
-            f"Cannot write into '{folder}': it (or a folder above it) is a file, not a folder; "
-            "choose another output path."
-        ) from None
+    if folder.is_dir():
+        return folder
+    blocked = _blocked(folder.parent) or (_blocked(folder) if folder.exists() else None)
+    if blocked:
+        error, reason = blocked
+        raise error(f"Cannot write into '{folder}': {reason}.")
+    folder.mkdir()
     return folder
+
+
+def check_target(path, *, force: bool = False) -> None:
+    """Refuse, before any work, an output file that cannot be written (None is skipped).
+
+    A folder at ``path``, a missing folder or a file above it: refused whatever
+    ``force`` says (a folder is never created silently); an existing file:
+    refused unless ``force``.
+    """
+    if path is None:
+        return
+    path = Path(path)
+    if path.is_dir():
+        raise OutputExistsError(f"Output '{path}' is a folder; give the name of a file to write in it, "
+                                f"e.g. '{path / 'results.json'}'.")
+    blocked = _blocked(path.parent)
+    if blocked:
+        error, reason = blocked
+        raise error(f"Cannot write '{path}': {reason}.")
+    if not force:
+        refuse_existing(path)
+
+
+def refuse_existing(*paths) -> None:
+    """Raise OutputExistsError naming the first of ``paths`` that exists (None is skipped)."""
+    for path in paths:
+        if path is not None and Path(path).exists():
+            raise OutputExistsError(
+                f"Output file '{path}' already exists; choose another name or pass --force to overwrite it."
+            )
 
 
 def write_atomic(path, data: str | bytes, *, force: bool = False) -> Path:
     """Write ``data`` to ``path`` via a temporary file in the same folder and a rename.
 
     A reader never sees a half-written file, and an existing file is replaced
-    only when ``force`` is true (otherwise OutputExistsError).
+    only when ``force`` is true (otherwise OutputExistsError); the folder must
+    exist (see :func:`check_target`).
     """
     path = Path(path)
-    if path.is_dir():
-        raise OutputExistsError(f"Output '{path}' is a folder; give the name of a file to write.")
-    if path.exists() and not force:
-        raise OutputExistsError(
-            f"Output file '{path}' already exists; choose another name or pass --force to overwrite it."
-        )
-    make_folder(path.parent)
+    check_target(path, force=force)
     mode = "wb" if isinstance(data, bytes) else "w"
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:

@@ -16,9 +16,11 @@ stays light.
 from __future__ import annotations
 
 import functools
+import math
+import numbers
 import re
 
-from rheofit.errors import UnitError
+from rheofit.errors import ParameterError, UnitError
 
 #: kind of quantity -> SI unit (pint spelling) it is converted to
 SI_UNITS: dict[str, str] = {
@@ -140,14 +142,15 @@ def _conversion(unit_text: str, kind: str) -> tuple[float, float]:
     return float(one - zero), float(zero)
 
 
+#: units of each kind as people write them, the one most used at the bench first (shown in messages)
 _EXAMPLES: dict[str, str] = {
     "shear_rate": "1/s",
-    "viscosity": "Pa·s, mPa·s or cP",
+    "viscosity": "mPa·s, Pa·s or cP",
     "stress": "Pa",
     "pressure": "kPa, bar or psi",
     "length": "mm or um",
     "flow_rate": "uL/min or mL/h",
-    "density": "kg/m^3 or g/mL",
+    "density": "g/mL or kg/m^3",
     "temperature": "°C or K",
     "velocity": "mm/s",
     "dimensionless": "(no unit)",
@@ -172,30 +175,138 @@ def is_unit_of(unit_text: str, kind: str) -> bool:
     return True
 
 
-_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+#: a typed quantity: a number (digits with '.' or ',', an exponent; or nan/inf) and the rest
+_TYPED = re.compile(
+    r"^\s*(?P<number>[-+]?(?:nan|inf(?:inity)?)(?![a-z])|[-+]?[\d.,]*\d[\d.,]*(?:[eE][-+]?\d+)?)"
+    r"\s*(?P<unit>.*?)\s*$",
+    re.IGNORECASE,
+)
 
 
-def parse_quantity(text, kind: str) -> float:
-    """Parse ``"0.5 mm"``-style text (or a bare number, taken as SI) to an SI float.
+def read_number(token: str) -> float:
+    """A number as people type it: '0.5', '0,5' (a decimal comma), '1e-3', 'nan', 'inf'.
 
-    >>> parse_quantity("25 kPa", "pressure")
-    25000.0
+    Raises ValueError with the reason when the number is ambiguous ('1,500':
+    a decimal comma or a thousands separator?) or unreadable ('1,000.5').
+
+    >>> read_number("0,5"), read_number("2.5e3")
+    (0.5, 2500.0)
     """
-    if isinstance(text, (int, float)):
-        return float(text)
-    match = _NUMBER.match(str(text))
+    if "," in token:
+        whole, _, fraction = token.partition(",")
+        if "," in fraction or "." in token:
+            raise ValueError("has a thousands separator or several decimal marks; write the number "
+                             "with one decimal point and no separators")
+        if len(fraction.partition("e")[0].partition("E")[0]) == 3 and whole.lstrip("+-") not in ("", "0"):
+            raise ValueError(f"could be {whole}.{fraction} (a decimal comma) or {whole}{fraction} "
+                             "(a thousands separator); write it with a decimal point")
+        token = f"{whole}.{fraction}"
+    return float(token)  # ValueError for '1.2.3'
+
+
+def parse_typed(text, kind: str, option: str, *, positive: bool = True) -> float:
+    """A quantity typed by a user (``"0.5 mm"``, ``"10 uL/min"``, ``"0,5 mm"``) -> SI float.
+
+    The unit is required: a bare number is refused with an example, since
+    ``0.5`` for a diameter could mean metres as easily as millimetres.  Also
+    refused, each in one sentence naming ``option``: an unreadable or ambiguous
+    number, nan and inf, a value that overflows ('1e400 mm'), an unknown unit
+    or one of another kind, and (``positive``) zero or a negative value.
+
+    >>> parse_typed("0,5 mm", "length", "--diameter")
+    0.0005
+    >>> parse_typed("0.5", "length", "--diameter")
+    Traceback (most recent call last):
+    ...
+    rheofit.errors.UnitError: --diameter '0.5' has no unit; give a number and a unit of length (mm or um), e.g. '0.5 mm'.
+    """
+    words = kind.replace("_", " ")
+    match = _TYPED.match(str(text))
     if not match:
-        if kind == "dimensionless":
-            raise UnitError(f"Cannot read '{text}' as a number; write a plain number such as '0.1'.")
-        raise UnitError(
-            f"Cannot read '{text}' as a {kind.replace('_', ' ')}; "
-            f"write a number and a unit, e.g. '{_first_example(kind)}'."
+        raise UnitError(f"Cannot read {option} '{text}' as a {words}; write a number and a unit, "
+                        f"e.g. '{_first_example(kind)}'.")
+    number_text, unit = match.group("number"), match.group("unit")
+    try:
+        number = read_number(number_text)
+    except ValueError as exc:
+        reason = str(exc) if "write" in str(exc) else "cannot be read; write a number such as '0.5'"
+        raise UnitError(f"{option} '{text}': the number '{number_text}' {reason}.") from None
+    if math.isnan(number) or (math.isinf(number) and number_text.lstrip("+-")[:1].isalpha()):
+        raise UnitError(f"{option} '{text}' is not a finite number; give a {words} such as "
+                        f"'{_first_example(kind)}'.")
+    if not unit and kind != "dimensionless":
+        example = f"{number_text} {_example_unit(kind)}" if number > 0 else _first_example(kind)
+        raise UnitError(f"{option} '{text}' has no unit; give a number and a unit of {words} "
+                        f"({_EXAMPLES[kind]}), e.g. '{example}'.")
+    try:
+        value = float(to_si(number, unit, kind))
+    except UnitError as exc:
+        problem = str(exc)
+        raise UnitError(f"{option} '{text}': {problem[0].lower()}{problem[1:]}") from None
+    if not math.isfinite(value):
+        raise UnitError(f"{option} '{text}' is too large to compute with (it overflows); "
+                        f"give a {words} such as '{_first_example(kind)}'.")
+    if positive and value <= 0:
+        sign = "zero" if value == 0 else "negative"
+        raise UnitError(f"{option} '{text}' is {sign}; a {words} must be positive, "
+                        f"e.g. '{_first_example(kind)}'.")
+    return value
+
+
+def parse_quantity(value, kind: str, name: str | None = None) -> float:
+    """A number (taken as SI) or text with a unit (``"0.5 mm"``) -> SI float.
+
+    Text is what a person typed, so it must carry its unit (see
+    :func:`parse_typed`; ``name`` is how its messages call the value); only
+    a number, not a string, is taken as SI.  The sign is left to the caller.
+
+    >>> parse_quantity("25 kPa", "pressure"), parse_quantity(0.001, "length")
+    (25000.0, 0.001)
+    """
+    if isinstance(value, numbers.Real):
+        return float(value)
+    return parse_typed(value, kind, name or kind.replace("_", " "), positive=False)
+
+
+def parse_tolerance(value, label: str = "tolerance") -> float:
+    """A relative tolerance [-]: '10%', '10 %', or a fraction below 1 ('0.1', 0.1) -> 0.1.
+
+    A bare number of 1 or more is refused: it could be a percentage as well
+    as a fraction (``10`` is not 1000 %, ``1`` not 100 %), so a percentage
+    carries its ``%``.  Raises ParameterError, quoting ``value`` after
+    ``label`` (e.g. the option name), unless it is a positive finite fraction.
+
+    >>> parse_tolerance("2.5 %"), parse_tolerance("0,1")
+    (0.025, 0.1)
+    """
+    percent, number = False, math.nan
+    if isinstance(value, numbers.Real):
+        number = float(value)
+    elif isinstance(value, str):
+        text = value.strip()
+        percent = text.endswith("%")
+        try:
+            number = read_number(text[:-1].strip() if percent else text)
+        except ValueError:
+            pass
+    fraction = number / 100 if percent else number
+    if not (math.isfinite(fraction) and fraction > 0):
+        raise ParameterError(
+            f"{label} {value!r} is not a positive fraction or percentage; write e.g. '10%', "
+            "'10 %' or 0.1."
         )
-    number, unit = float(match.group(1)), match.group(2)
-    if not unit:
-        return number
-    return float(to_si(number, unit, kind))
+    if not percent and number >= 1:
+        raise ParameterError(
+            f"{label} {value!r} is ambiguous (as a fraction it means {number * 100:g} %); write "
+            f"'{number:g}%' for {number:g} percent, or a fraction below 1 such as 0.1."
+        )
+    return fraction
+
+
+def _example_unit(kind: str) -> str:
+    """The first unit of a kind's examples ('mm' for length)."""
+    return _EXAMPLES.get(kind, "").split(",")[0].split(" or ")[0]
 
 
 def _first_example(kind: str) -> str:
-    return "1 " + _EXAMPLES.get(kind, "").split(",")[0].split(" or ")[0]
+    return "1 " + _example_unit(kind)

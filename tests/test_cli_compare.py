@@ -14,11 +14,10 @@ import pytest
 import typer
 from typer.testing import CliRunner
 
-from rheofit.cli.compare import compare_command, parse_tolerance
-from rheofit.errors import ParameterError
+from rheofit.cli.compare import compare_command
 from rheofit.flow.predict import SAFETY_CAUTION
 
-SAMPLES = Path(__file__).resolve().parent.parent / "sample_data"
+SAMPLES = Path(__file__).resolve().parent.parent / "rheofit" / "sample_data"
 runner = CliRunner()
 
 app = typer.Typer()
@@ -74,7 +73,7 @@ def test_bundled_lots_table_verdicts_test_flags_and_caution():
     assert "Parameters of the carreau model" in out and "Against the reference lot" in out
     assert "Verdicts:" in out and "NO" in out
     assert "medium_lot_B: within tolerance" in out
-    # lot C of the bundled sweeps was made more viscous on purpose (sample_data/make_samples.py)
+    # lot C of the bundled sweeps was made more viscous on purpose (rheofit/sample_data/make_samples.py)
     assert "medium_lot_C: outside tolerance" in out
     assert "Same-curve test" in out and "p = " in out
     assert "Flags:" in out and "Caution" in out
@@ -183,8 +182,3 @@ def test_lots_without_a_shared_range(tmp_path):
     message = one_error_line(run(low, high, *TUBE, "-q", "1 mL/min", *FAST))
     assert "share no shear-rate range" in message
 
-
-def test_parse_tolerance_directly():
-    assert parse_tolerance("2.5 %") == pytest.approx(0.025)
-    with pytest.raises(ParameterError, match="positive fraction"):
-        parse_tolerance("0")

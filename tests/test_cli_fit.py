@@ -9,7 +9,7 @@ from typer.testing import CliRunner
 from rheofit.cli import app
 from rheofit.models import MODELS
 
-SAMPLES = Path(__file__).resolve().parent.parent / "sample_data"
+SAMPLES = Path(__file__).resolve().parent.parent / "rheofit" / "sample_data"
 runner = CliRunner()
 
 
@@ -29,7 +29,7 @@ def test_fit_ranks_and_reports_the_sample():
     result = run("fit", SAMPLES / "medium_lot_A.csv")
     assert result.exit_code == 0, result.output
     assert "Ranking" in result.output and "95 % interval" in result.output
-    # the bundled lot A was generated from a Carreau curve (sample_data/make_samples.py)
+    # the bundled lot A was generated from a Carreau curve (rheofit/sample_data/make_samples.py)
     assert "carreau" in result.output.split("Ranking")[1].splitlines()[4]
 
 

@@ -9,7 +9,7 @@ from typer.testing import CliRunner
 
 from rheofit.cli import app
 
-SAMPLES = Path(__file__).resolve().parent.parent / "sample_data"
+SAMPLES = Path(__file__).resolve().parent.parent / "rheofit" / "sample_data"
 runner = CliRunner()
 
 # Source: IAPWS (2008) viscosity formulation (Huber et al. 2009, J. Phys. Chem. Ref.

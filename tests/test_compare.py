@@ -112,6 +112,7 @@ def test_f_test_equals_one_way_anova_for_newtonian_lots():
     assert (c.same_curve["df_numerator"], c.same_curve["df_denominator"]) == (2, 27)
 
 
+@pytest.mark.slow
 def test_same_curve_test_rejects_at_its_nominal_rate_under_the_null():
     """Pairs of lots of one power-law truth: about 5 % of p-values fall below 0.05.
 
@@ -211,7 +212,9 @@ def test_model_is_the_best_by_summed_aicc():
 
 def test_a_lot_the_common_model_fits_badly_is_flagged():
     rng = np.random.default_rng(12)
-    water_like = lot("thin", rng, "newtonian", {"mu": 0.5}, rate_range=(0.1, 100), points=8, noise=0.02)
+    # 6 points for the Newtonian lot: with 8, the three-parameter Ellis model fits both lots within
+    # 10 of the best AICc (its Newtonian limit costs only the AICc penalty), so nothing misfits
+    water_like = lot("thin", rng, "newtonian", {"mu": 0.5}, rate_range=(0.1, 100), points=6, noise=0.02)
     plateau = lot("gel", rng, "carreau", {"eta0": 1.0, "eta_inf": 1e-3, "lam": 1.0, "n": 0.3},
                   rate_range=(0.1, 100), points=8, noise=0.02)
     c = compare([water_like, plateau])

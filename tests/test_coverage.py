@@ -20,6 +20,9 @@ from rheofit.curve import FlowCurve
 from rheofit.fitting import fit
 from rheofit.models import MODELS
 
+#: statistical calibrations over hundreds of fits: run by default, skipped with -m "not slow"
+pytestmark = pytest.mark.slow
+
 NOMINAL = 0.95
 
 CASES = {

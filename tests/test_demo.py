@@ -59,7 +59,7 @@ def test_the_demo_covers_the_scenario(first_run):
     assert any(f.code == "extrapolation" for f in priming[0].prediction.flags)
     comparison = analysis.comparison
     assert comparison is not None and list(comparison.lots) == list(demo.LOTS)
-    # lot C was mixed with too little water (sample_data/README.md): it must stand out
+    # lot C was mixed with too little water (rheofit/sample_data/README.md): it must stand out
     assert comparison.table["within_tolerance"].tolist() == [True, True, False]
 
 
@@ -88,3 +88,28 @@ def test_run_demo_refuses_before_any_work(tmp_path, monkeypatch):
     monkeypatch.setattr(demo, "analyse_demo", boom)
     with pytest.raises(OutputExistsError, match="already holds fits.json"):
         demo.run_demo(tmp_path)
+
+
+def test_without_out_the_demo_writes_a_fresh_folder_under_the_temporary_directory(
+        first_run, tmp_path, monkeypatch):
+    import tempfile
+
+    _, _, analysis = first_run
+    here, temporary = tmp_path / "cwd", tmp_path / "tmp"
+    here.mkdir()
+    temporary.mkdir()
+    monkeypatch.chdir(here)
+    monkeypatch.setattr(tempfile, "tempdir", str(temporary))  # what gettempdir() answers
+    monkeypatch.setattr(demo, "analyse_demo", lambda steps=None: analysis)
+    result = runner.invoke(app, ["demo"])
+    assert result.exit_code == 0, result.output
+    assert list(here.iterdir()) == []  # nothing in the current folder
+    made, = temporary.iterdir()
+    assert made.name.startswith("rheofit-demo-") and (made / "report.html").is_file()
+    assert f"Writtento{made}" in "".join(result.stdout.split())  # says where (a long path may wrap)
+
+
+def test_demo_out_under_a_missing_folder_is_refused(tmp_path):
+    message = runner.invoke(app, ["demo", "--out", str(tmp_path / "no" / "demo")]).stderr.strip()
+    assert message == (f"error: Cannot write into '{tmp_path / 'no' / 'demo'}': the folder "
+                       f"'{tmp_path / 'no'}' does not exist; create it first or choose another path.")

@@ -6,6 +6,7 @@ from __future__ import annotations
 import itertools
 import json
 import math
+from dataclasses import replace
 
 import numpy as np
 import pytest
@@ -22,19 +23,9 @@ from rheofit.models import MODELS, Parameter, ViscosityModel
 
 # --- synthetic data (invented values, for recovery tests only) -----------------
 
-#: model -> (true parameters, shear-rate range [1/s] wide enough to resolve each)
-RECOVERY = {
-    "newtonian": ({"mu": 0.05}, (0.1, 1e3)),
-    "power_law": ({"K": 2.0, "n": 0.45}, (0.1, 1e3)),
-    "carreau": ({"eta0": 10.0, "eta_inf": 0.01, "lam": 2.0, "n": 0.35}, (1e-3, 1e6)),
-    "carreau_yasuda": ({"eta0": 5.0, "eta_inf": 0.005, "lam": 0.5, "n": 0.3, "a": 0.7},
-                       (1e-4, 1e6)),
-    "cross": ({"eta0": 20.0, "eta_inf": 0.02, "lam": 0.3, "m": 0.75}, (1e-3, 1e6)),
-    "sisko": ({"eta_inf": 0.05, "K": 3.0, "n": 0.25}, (0.1, 1e5)),
-    "bingham": ({"tau_y": 5.0, "mu_p": 0.1}, (0.1, 1e3)),
-    "herschel_bulkley": ({"tau_y": 10.0, "K": 2.0, "n": 0.5}, (0.01, 1e3)),
-    "casson": ({"tau_y": 0.5, "mu_c": 0.004}, (0.01, 1e3)),
-}
+#: model -> (true parameters, shear-rate range [1/s] wide enough to resolve each), from each
+#: declaration's example values and example range
+RECOVERY = {name: (dict(m.example), tuple(m.example_range)) for name, m in MODELS.items()}
 
 
 def synthetic(model, params, low, high, n_points=32, noise=0.02, seed=0, name="synthetic"):
@@ -181,6 +172,68 @@ def test_profile_threshold_is_the_squared_t_quantile():
     assert profile_threshold(12, 2) == pytest.approx(1 + 2.228139 ** 2 / 10, rel=1e-6)
 
 
+
+# --- parameter correlations against the closed form of a straight line ----------------------
+
+def straight_line_correlation(x) -> float:
+    """corr(intercept, slope) of ordinary least squares with uncorrelated equal-variance errors.
+
+    Var(b0) = s^2 sum(x^2) / (N Sxx), Var(b1) = s^2 / Sxx, Cov(b0, b1) = -s^2 xbar / Sxx,
+    hence r = -xbar / sqrt(mean(x^2)).  Draper & Smith (1998) Applied Regression
+    Analysis, 3rd ed., Wiley, ch. 1 and 3 (variances and covariance of b0, b1) (from memory).
+    """
+    x = np.asarray(x, dtype=float)
+    return float(-x.mean() / math.sqrt(np.mean(x**2)))
+
+
+def test_power_law_correlation_is_the_straight_line_closed_form(power_law_fit):
+    # ln tau = ln K + n ln gamma_dot: intercept ln K (the fit's inner coordinate), slope n.
+    # The closed form depends on the shear rates only, not on the noise.
+    expected = straight_line_correlation(np.log(power_law_fit.shear_rate))
+    assert expected < -0.5  # 0.1 to 1000 1/s: xbar = ln 10 > 0, a strong negative correlation
+    matrix = power_law_fit.covariance.correlation()
+    assert matrix[0, 1] == pytest.approx(expected, abs=1e-6)
+    assert matrix[1, 0] == pytest.approx(expected, abs=1e-6)
+    assert np.diag(matrix) == pytest.approx([1.0, 1.0], abs=1e-12)
+    [(a, b, r)] = power_law_fit.correlations()
+    assert (a, b) == ("K", "n") and r == pytest.approx(expected, abs=1e-6)
+
+
+def test_shear_rates_centred_in_log_give_no_correlation():
+    # xbar = mean(ln gamma_dot) = 0 for rates symmetric about 1 1/s: r = 0 by the same
+    # closed form, so no pair is listed and the text report says so.
+    curve = synthetic("power_law", {"K": 2.0, "n": 0.6}, 0.01, 100.0, 21, 0.03, seed=5)
+    assert straight_line_correlation(np.log(curve.shear_rate)) == pytest.approx(0.0, abs=1e-12)
+    result = fit(curve, "power_law")
+    assert abs(result.covariance.correlation()[0, 1]) < 1e-6
+    assert result.correlations() == []
+    assert "Correlations of the estimates (|r| > 0.1)\n" in str(result)
+    assert "  none" in str(result).split("Correlations of the estimates")[1].split("Goodness")[0]
+
+
+def test_correlations_in_the_text_report(power_law_fit, unresolved_carreau):
+    [(a, b, r)] = power_law_fit.correlations()
+    assert f"{a}, {b}  {r:+.3f}" in str(power_law_fit)
+    pairs = unresolved_carreau.correlations()
+    section = str(unresolved_carreau).split("Correlations of the estimates")[1].split("Goodness")[0]
+    assert [abs(r) for *_, r in pairs] == sorted((abs(r) for *_, r in pairs), reverse=True)
+    assert all(abs(r) > 0.1 for *_, r in pairs)
+    for a, b, r in pairs:
+        assert f"{a}, {b}" in section and f"{r:+.3f}" in section
+
+
+def test_correlations_without_a_covariance_and_for_one_parameter(power_law_fit):
+    no_covariance = replace(power_law_fit, covariance=replace(power_law_fit.covariance, matrix=None))
+    assert no_covariance.correlations() is None
+    assert "not available: the fit gave no covariance" in str(no_covariance)
+    newtonian = fit(synthetic("newtonian", {"mu": 0.05}, 0.1, 1e3, 12, seed=2), "newtonian")
+    assert newtonian.correlations() == [] and "Correlations" not in str(newtonian)
+
+
+def test_correlations_survive_the_json_round_trip(power_law_fit):
+    back = FitResult.from_dict(json.loads(json.dumps(power_law_fit.to_dict())))
+    assert back.correlations() == power_law_fit.correlations()  # JSON keeps every float digit
+
 # --- unresolved parameters -------------------------------------------------------------
 
 def test_unreached_zero_shear_plateau_leaves_eta0_open(unresolved_carreau):
@@ -219,6 +272,63 @@ def test_yield_stress_far_below_the_data_is_not_resolved():
     assert ("unresolved", "tau_y") in codes
     assert ("at_bound", "tau_y") in codes
     assert result.params["K"].resolved and result.params["n"].resolved
+
+
+# --- bounds follow physics; a bound that holds a fit is named --------------------------------
+
+#: a Cross fit of human blood, Cho & Kensey (1991) Biorheology 28, 241-262 (from memory):
+#: eta0 = 0.056 Pa*s, eta_inf = 0.00345 Pa*s, lam = 1.007 s, m = 1.028
+BLOOD_CROSS = {"eta0": 0.056, "eta_inf": 0.00345, "lam": 1.007, "m": 1.028}
+
+
+@pytest.fixture(scope="module")
+def blood_curve():
+    return synthetic("cross", BLOOD_CROSS, 1e-2, 1e3, 32, seed=11, name="blood-like")
+
+
+def capped_cross(upper):
+    """The Cross declaration with m capped at ``upper`` (the old cap was 1)."""
+    from dataclasses import replace
+
+    cross = MODELS["cross"]
+    m = replace(cross.parameter("m"), upper=upper)
+    return replace(cross, name="cross_capped", parameters=cross.parameters[:3] + (m,))
+
+
+def test_a_cross_exponent_above_one_is_recovered(blood_curve):
+    result = fit(blood_curve, "cross")
+    assert not result.flags_with("at_bound") and not result.flags_with("unresolved")
+    m = result.params["m"]
+    assert m.value == pytest.approx(BLOOD_CROSS["m"], rel=0.05) and m.resolved
+    assert inside(m, BLOOD_CROSS["m"]) and m.ci95[0] > 1.0
+
+
+def test_a_bound_that_holds_the_fit_leads_the_flags(blood_curve):
+    result = fit(blood_curve, capped_cross(1.0))
+    at_bound = result.flags_with("at_bound")
+    assert [f.data["parameter"] for f in at_bound] == ["m"]
+    assert at_bound[0].message.startswith("m is at its upper bound 1: ")
+    held = [f for f in result.flags_with("unresolved") if f.data["parameter"] != "m"]
+    assert held, "the cap leaves the others open"
+    for flag in held:
+        assert flag.message.startswith(f"{flag.data['parameter']} is not resolved because m is at "
+                                       "its upper bound 1")
+        assert "plateau" not in flag.message and flag.data["cause"] == "bound"
+        assert "m is at its upper bound 1" in result.params[flag.data["parameter"]].note
+
+
+def test_infeasible_trial_points_get_the_huge_residual():
+    from rheofit.fitting.problem import LogStressProblem
+
+    rate = np.geomspace(1e-2, 1e3, 20)
+    problem = LogStressProblem(MODELS["cross"], rate, MODELS["cross"].stress(rate, **BLOOD_CROSS))
+    par = problem.parametrisation
+    assert np.all(problem.residual(par.internal(BLOOD_CROSS)) < 1e-12)
+    above = {**BLOOD_CROSS, "eta_inf": 0.1}            # eta_inf > eta0: the declared constraint
+    # m = 2 without eta_inf peaks at lam*gamma_dot = 1, inside these data (see test_models)
+    falling = {**BLOOD_CROSS, "eta_inf": 0.0, "m": 2.0}
+    for values in (above, falling):
+        assert np.all(problem.residual(par.internal(values)) == 50.0)
 
 
 # --- model mismatch and ranking ------------------------------------------------------
@@ -412,6 +522,7 @@ def custom_model(stress_function, guess_function=None, name="custom"):
     return ViscosityModel(
         name, "Custom", "tau = ?", (Parameter("c", "Pa*s", 1e-6, 1e6, "a constant"),),
         stress_function, guess_function or (lambda rate, stress: {"c": 1.0}), "invented",
+        example={"c": 1.0}, example_range=(0.1, 10.0),
     )
 
 
@@ -449,7 +560,9 @@ def test_unstable_optimum_is_a_fit_error(monkeypatch):
 def test_fit_all_skips_what_it_cannot_fit():
     ranking = fit_all(tiny_curve(4), list(MODELS.values()) + [NAN_MODEL])
     skipped = dict(ranking.skipped)
-    assert {"carreau", "carreau_yasuda", "cross", "nan_model"} == set(skipped)
+    four_or_more = {m for m in MODELS if len(MODELS[m].parameters) >= 4}   # 4 points: k + 1 > 4
+    assert four_or_more == {"carreau", "carreau_yasuda", "cross"}
+    assert four_or_more | {"nan_model"} == set(skipped)
     assert "needs at least 5 points" in skipped["carreau"]
     assert {r.model for r in ranking} == set(MODELS) - set(skipped)
 

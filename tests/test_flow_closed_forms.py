@@ -83,6 +83,20 @@ def casson_tube(tau_w, tau_y, mu_c, R):
     return math.pi * R**3 * tau_w / (4 * mu_c) * (1 - 16 / 7 * math.sqrt(phi) + 4 / 3 * phi - phi**4 / 21)
 
 
+def ellis_tube(tau_w, eta0, tau_half, alpha, R):
+    # Source: Bird, Stewart & Lightfoot (2002), ch. 8 (from memory):
+    # Q = (pi R^3 tau_w/(4 eta0)) [1 + (4/(alpha+3)) (tau_w/tau_half)^(alpha-1)];
+    # checked against the integral in test_ellis_closed_forms_match_the_integral before use
+    return math.pi * R**3 * tau_w / (4 * eta0) * (1 + 4 / (alpha + 3) * (tau_w / tau_half) ** (alpha - 1))
+
+
+def ellis_slit(tau_w, eta0, tau_half, alpha, W, h):
+    # Derived here from Q = 2 W h^2/tau_w^2 int_0^tau_w tau gd dtau with
+    # gd = (tau/eta0)(1 + (tau/tau_half)^(alpha-1)):
+    # Q = (2 W h^2 tau_w/(3 eta0)) [1 + (3/(alpha+2)) (tau_w/tau_half)^(alpha-1)]
+    return 2 * W * h**2 * tau_w / (3 * eta0) * (1 + 3 / (alpha + 2) * (tau_w / tau_half) ** (alpha - 1))
+
+
 def rabinowitsch_mooney_tube(inverse, tau_w, tau_y, R):
     """Q = pi R^3/tau_w^3 int_{tau_y}^{tau_w} tau^2 gd(tau) dtau by adaptive quadrature.
 
@@ -267,6 +281,41 @@ def test_casson_tube(method):
         assert engine.flow_rate(f, TUBE, TUBE.pressure_drop(tau_w), method) == pytest.approx(expected, rel=RTOL)
 
 
+# --- Ellis: a model given by its inverse, against its closed forms ----------------------
+
+ELLIS_CASES = [  # (eta0 [Pa*s], tau_half [Pa], alpha [-]); invented values
+    (1.0, 5.0, 2.5), (0.05, 0.3, 1.3), (10.0, 50.0, 6.0), (2.0, 1.0, 1.0), (3e-3, 2.0, 1.8)]
+
+
+def test_ellis_closed_forms_match_the_integral():
+    # the forms above against the Rabinowitsch-Mooney integrals of the Ellis inverse (coded here)
+    for eta0, tau_half, alpha in ELLIS_CASES:
+        def inverse(t):
+            return t / eta0 * (1 + (t / tau_half) ** (alpha - 1))
+        for tau_w in (0.2, 5.0, 300.0):
+            assert ellis_tube(tau_w, eta0, tau_half, alpha, TUBE.radius) == pytest.approx(
+                rabinowitsch_mooney_tube(inverse, tau_w, 0.0, TUBE.radius), rel=1e-12)
+            assert ellis_slit(tau_w, eta0, tau_half, alpha, SLIT.width, SLIT.half_gap) == pytest.approx(
+                rabinowitsch_mooney_slit(inverse, tau_w, 0.0, SLIT.width, SLIT.half_gap), rel=1e-12)
+
+
+ELLIS_RTOL = 1e-9  # tighter than the engine's stated accuracy: the target set for this model
+
+
+@pytest.mark.parametrize("method", METHODS)
+@pytest.mark.parametrize("case", ELLIS_CASES, ids=lambda c: f"alpha={c[2]}")
+def test_ellis_tube_and_slit_both_directions(case, method):
+    eta0, tau_half, alpha = case
+    f = fluid("ellis", eta0=eta0, tau_half=tau_half, alpha=alpha)
+    tau_w = np.geomspace(1e-2, 1e4, 13)
+    for geometry, expected in (
+            (TUBE, ellis_tube(tau_w, eta0, tau_half, alpha, TUBE.radius)),
+            (SLIT, ellis_slit(tau_w, eta0, tau_half, alpha, SLIT.width, SLIT.half_gap))):
+        dp = geometry.pressure_drop(tau_w)
+        assert rel(engine.flow_rate(f, geometry, dp, method), expected) < ELLIS_RTOL
+        assert rel(engine.pressure_drop(f, geometry, expected, method), dp) < ELLIS_RTOL
+
+
 # --- no model needs a closed form: Carreau against the direct integral ----------------
 
 @pytest.mark.parametrize("geometry", (TUBE, SLIT), ids=("tube", "slit"))
@@ -291,9 +340,9 @@ def test_carreau_against_direct_rabinowitsch_mooney_integral(geometry):
 @pytest.mark.parametrize("name", [m for m in MODELS if MODELS[m].extras])
 def test_declared_closed_forms_agree_with_generic_path(name):
     declaration = MODELS[name]
-    values = {p.name: (0.5 if p.unit == "1" else 2.0) for p in declaration.parameters}
-    f = fluid(name, **values)
-    tau_w = np.geomspace(2.5, 500.0, 7)  # above any yield stress set here (2 Pa)
+    f = fluid(name, **declaration.example)
+    # wall stresses over the declaration's example shear rates, above any yield stress
+    tau_w = f.stress(np.geomspace(*declaration.example_range, 7))
     for geometry in (TUBE, SLIT):
         dp = geometry.pressure_drop(tau_w)
         assert geometry.closed_form_key in declaration.extras
@@ -307,8 +356,7 @@ def test_declared_closed_forms_agree_with_generic_path(name):
 @pytest.mark.parametrize("name", [m for m in MODELS if "tau_y" in MODELS[m].parameter_names])
 def test_yield_stress_fluid_below_yield_does_not_flow(name):
     # common practice, no source: a plug at rest while tau_w <= tau_y (Bingham 1916)
-    values = {p.name: (0.5 if p.unit == "1" else 2.0) for p in MODELS[name].parameters}
-    values["tau_y"] = 10.0
+    values = {**MODELS[name].example, "tau_y": 10.0}
     f = fluid(name, **values)
     dp = TUBE.pressure_drop(np.array([0.0, 5.0, 10.0, 10.5]))
     state = engine.solve_pressure_drop(f, TUBE, dp)

@@ -14,7 +14,7 @@ import os
 import numpy as np
 import pytest
 
-from rheofit.errors import InputFileError, UnitError
+from rheofit.errors import InputFileError, ParameterError, UnitError
 from rheofit.ingest import read_flow_curve, read_flow_curves, sorted_by_shear_rate
 from rheofit.units import to_si
 
@@ -220,7 +220,7 @@ def test_unknown_curve_choice(tmp_path, choice):
 
 def test_override_naming_no_column(tmp_path):
     path = write(tmp_path, "s.csv", table("Shear rate [1/s],Viscosity [Pa s]", zip(RATES, VALUES)))
-    with pytest.raises(InputFileError, match=r"s\.csv' has no column named 'Visc' \(viscosity_column\).*'Shear rate \[1/s\]'"):
+    with pytest.raises(InputFileError, match=r"s\.csv' has no column named 'Visc' \(asked for with viscosity_column=Visc\).*'Shear rate \[1/s\]'"):
         read_flow_curve(path, viscosity_column="Visc")
 
 
@@ -330,3 +330,27 @@ def test_unit_override_rescues_an_unreadable_file_unit(tmp_path):
 def test_unit_in_brackets_without_a_name(tmp_path):
     curve = read_flow_curve(write(tmp_path, "bare_units.csv", table("[1/s];[mPa s]", zip(RATES, VALUES), ";")))
     np.testing.assert_allclose(curve.viscosity, [0.25, 0.12, 0.06])
+
+
+def test_one_segment_of_an_up_and_down_sweep(tmp_path):
+    """Synthetic up-and-down sweep: 2.0 Pa s going up, 1.6 Pa s coming down (a 20 % loop)."""
+    rates = [1, 3, 10, 30, 100, 300, 1000]
+    path = tmp_path / "loop.csv"
+    path.write_text("Shear rate [1/s],Viscosity [Pa s]\n" + "".join(f"{g},2.0\n" for g in rates)
+                    + "".join(f"{g},1.6\n" for g in reversed(rates)), encoding="utf-8")
+    both, = read_flow_curves(path)
+    assert len(both) == 14
+    loop = next(f for f in both.flags if f.code == "hysteresis")
+    assert "segment='up' or 'down'" in loop.message  # from Python the keyword is named
+    down, = read_flow_curves(path, segment="down")
+    assert len(down) == 7 and set(down.viscosity) == {1.6} and set(down.shear_rate) == set(rates)
+    assert [f.code for f in down.flags][-1] == "segment_kept"
+    assert "only the down segment was kept" in next(f for f in down.flags if f.code == "hysteresis").message
+    with pytest.raises(ParameterError, match=r"^Unknown segment 'sideways'; choose one of: all, up, down\.$"):
+        read_flow_curves(path, segment="sideways")
+    path.write_text("Shear rate [1/s],Viscosity [Pa s]\n" + "".join(f"{g},2.0\n" for g in rates), encoding="utf-8")
+    up, = read_flow_curves(path, segment="up")  # an ascending sweep is all "up": nothing to flag
+    assert len(up) == 7 and "segment_kept" not in [f.code for f in up.flags]
+    with pytest.raises(InputFileError, match=r"\(loop: ascending\) has 0 points in down segments; .* choose "
+                                             r"segment='up' or 'all'\.$"):
+        read_flow_curves(path, segment="down")

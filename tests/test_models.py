@@ -1,30 +1,25 @@
-"""The model registry: one table of parameters drives checks for every model."""
+"""The model registry: each declaration's example values drive checks for every model."""
 
 import math
 
 import numpy as np
 import pytest
 
-from rheofit.errors import ModelNameError, ParameterError
+from rheofit.errors import DeclarationError, ModelNameError, ParameterError
 from rheofit.fluid import as_fluid, fluid
-from rheofit.models import MODELS, get_model
+from rheofit.models import MODELS, Parameter, ViscosityModel, get_model
+from rheofit.models.declaration import monotone_inverse
 
-#: a physically sensible parameter set per model (registry-wide table)
-TYPICAL = {
-    "newtonian": dict(mu=0.01),
-    "power_law": dict(K=2.0, n=0.5),
-    "carreau": dict(eta0=1.0, eta_inf=0.001, lam=1.0, n=0.4),
-    "carreau_yasuda": dict(eta0=1.0, eta_inf=0.001, lam=1.0, n=0.4, a=1.5),
-    "cross": dict(eta0=1.0, eta_inf=0.001, lam=1.0, m=0.7),
-    "sisko": dict(eta_inf=0.01, K=1.0, n=0.3),
-    "bingham": dict(tau_y=1.0, mu_p=0.01),
-    "herschel_bulkley": dict(tau_y=1.0, K=0.5, n=0.6),
-    "casson": dict(tau_y=0.5, mu_c=0.004),
-}
+#: a physically sensible parameter set per model (registry-wide table), from the declarations
+TYPICAL = {name: dict(m.example) for name, m in MODELS.items()}
 
 
 def test_table_covers_registry():
     assert set(TYPICAL) == set(MODELS)
+    for m in MODELS.values():
+        assert set(m.example) == set(m.parameter_names)
+        low, high = m.example_range
+        assert 0 < low < high
 
 
 @pytest.mark.parametrize("name", MODELS)
@@ -46,6 +41,8 @@ def test_stress_is_positive_and_increasing(name):
 
 @pytest.mark.parametrize("name", MODELS)
 def test_guess_recovers_noise_free_parameters_roughly(name):
+    # a common sweep of 0.1-1000 1/s: over a full example range, where both plateaus show, the
+    # plateau guesses are rougher than this (the fit's restarts cope; see test_fitting)
     rate = np.logspace(-1, 3, 30)
     m = MODELS[name]
     guess = m.guess(rate, m.stress(rate, **TYPICAL[name]))
@@ -67,6 +64,9 @@ NEWTONIAN_LIMITS = [
     ("bingham", dict(tau_y=0.0, mu_p=0.02)),
     ("herschel_bulkley", dict(tau_y=0.0, K=0.02, n=1.0)),
     ("casson", dict(tau_y=0.0, mu_c=0.02)),
+    # (lam*gamma_dot)^0 = 1 and (tau/tau_half)^0 = 1: half of eta0 at every rate
+    ("williamson", dict(eta0=0.04, lam=3.0, n=1.0)),
+    ("ellis", dict(eta0=0.04, tau_half=3.0, alpha=1.0)),
 ]
 
 
@@ -148,3 +148,150 @@ def test_as_fluid_rejects_other_objects():
 def test_check_rejects_unknown_parameter_name():
     with pytest.raises(ParameterError, match="Unknown cross parameter 'n'; choose one of: eta0, eta_inf, lam, m"):
         MODELS["cross"].parameter("n")
+
+
+# --- declarations check themselves -------------------------------------------------------
+
+def _declare(stress, **overrides):
+    """A throwaway one-parameter declaration (invented, for the self-checks)."""
+    fields = dict(example={"c": 1.0}, example_range=(0.1, 10.0))
+    fields.update(overrides)
+    return ViscosityModel("toy", "Toy", "tau = c * gamma_dot",
+                          (Parameter("c", "Pa*s", 1e-6, 1e6, "a constant"),),
+                          stress, lambda rate, stress: {"c": 1.0}, "invented", **fields)
+
+
+def test_a_stress_function_with_other_names_is_refused_when_declared():
+    with pytest.raises(DeclarationError, match=r"model 'toy'.*needs k, not declared.*does not take c"):
+        _declare(lambda rate, k: k * rate)
+
+
+def test_a_stress_function_missing_a_declared_name_is_refused():
+    with pytest.raises(DeclarationError, match="does not take c"):
+        _declare(lambda rate: rate)
+
+
+def test_every_hook_is_checked_against_the_declared_names():
+    with pytest.raises(DeclarationError, match="constraint"):
+        _declare(lambda rate, c: c * rate, constraint=lambda d: None)
+    with pytest.raises(DeclarationError, match="shear-rate function"):
+        _declare(lambda rate, c: c * rate, shear_rate_function=lambda tau, k: tau / k)
+    with pytest.raises(DeclarationError, match="closed form 'tube_flow_rate'"):
+        _declare(lambda rate, c: c * rate, extras={"tube_flow_rate": lambda tau_w, radius, k: 0})
+
+
+def test_the_example_is_checked_when_declared():
+    with pytest.raises(DeclarationError, match="example values for nothing"):
+        _declare(lambda rate, c: c * rate, example={})
+    with pytest.raises(DeclarationError, match="outside its physical range"):
+        _declare(lambda rate, c: c * rate, example={"c": 1e9})
+    with pytest.raises(DeclarationError, match="example shear-rate range"):
+        _declare(lambda rate, c: c * rate, example_range=(10.0, 1.0))
+    with pytest.raises(DeclarationError, match="c must stay below 0.5"):
+        _declare(lambda rate, c: c * rate, constraint=lambda c: None if c < 0.5 else "c must stay below 0.5")
+
+
+def test_a_declaration_needs_a_flow_curve_or_its_inverse():
+    with pytest.raises(DeclarationError, match="neither a stress function nor a shear-rate function"):
+        _declare(None)
+
+
+def test_a_model_given_by_its_inverse_gets_its_flow_curve():
+    toy = _declare(None, shear_rate_function=lambda stress, c: stress / c)
+    assert toy.stress(np.array([2.0, 4.0]), c=0.5) == pytest.approx([1.0, 2.0], rel=1e-14)
+    assert toy.stress_function.__doc__
+
+
+@pytest.mark.parametrize("name", MODELS)
+def test_shear_rate_inverts_the_flow_curve(name):
+    m = MODELS[name]
+    rate = np.geomspace(*m.example_range, 25)
+    back = m.shear_rate(m.stress(rate, **m.example), **m.example)
+    # a yield stress costs digits near it: the error of the rate is eps * tau / (tau - tau_y)
+    np.testing.assert_allclose(back, rate, rtol=1e-9)
+
+
+@pytest.mark.parametrize("name", [m for m in MODELS if MODELS[m].yield_stress_function])
+def test_no_shear_rate_at_or_below_the_yield_stress(name):
+    m = MODELS[name]
+    tau_y = m.yield_stress(**m.example)
+    assert list(m.shear_rate(np.array([0.0, 0.5 * tau_y, tau_y]), **m.example)) == [0.0, 0.0, 0.0]
+
+
+def test_monotone_inverse_against_the_power_law_inverse():
+    # Ostwald (1925): tau = K gd^n, so gd = (tau/K)^(1/n); over the whole double range, with
+    # parameter arrays broadcast against the targets
+    K, n = np.array([[0.5], [2.0], [1e4]]), np.array([[0.2], [1.0], [1.8]])
+    tau = np.geomspace(1e-30, 1e30, 7)
+    got = monotone_inverse(lambda s, K, n: K * s**n, tau, {"K": K, "n": n})
+    np.testing.assert_allclose(got, (tau / K) ** (1 / n), rtol=1e-12)
+
+
+def test_monotone_inverse_at_the_edges():
+    at = monotone_inverse(lambda s, tau_y: tau_y + s, np.array([0.0, 0.5, 1.0, 1e309, -1.0]),
+                          {"tau_y": 1.0})
+    assert at[0] == 0.0 and at[1] == 0.0            # zero, and below the offset
+    assert 0.0 <= at[2] <= 2.3e-16                    # at it: any s with 1 + s == 1 in doubles
+    assert at[3] == np.inf and np.isnan(at[4])
+
+
+# --- the joint constraint ----------------------------------------------------------------
+
+@pytest.mark.parametrize("name", [m for m in MODELS if {"eta0", "eta_inf"} <= set(MODELS[m].parameter_names)])
+def test_a_high_shear_plateau_above_the_zero_shear_one_is_refused(name):
+    values = {**MODELS[name].example, "eta0": 0.01, "eta_inf": 0.1}
+    assert "eta_inf" in MODELS[name].violation(values)
+    with pytest.raises(ParameterError, match=r"eta_inf = 0.1 Pa\*s is above eta0 = 0.01 Pa\*s"):
+        fluid(name, **values)
+    fluid(name, **{**values, "eta_inf": 0.01})  # equal plateaus: a Newtonian fluid
+
+
+# --- Williamson and Ellis: the published forms ---------------------------------------------
+
+def test_williamson_with_n_zero_is_williamsons_1929_law():
+    # Williamson (1929) Ind. Eng. Chem. 21, 1108 (from memory): tau = A gd/(B + gd) + mu_inf gd;
+    # with mu_inf = 0 it is eta0/(1 + lam gd) for A = eta0/lam, B = 1/lam
+    rate = np.geomspace(1e-3, 1e4, 15)
+    eta0, lam = 3.0, 0.2
+    expected = (eta0 / lam) * rate / (1 / lam + rate)
+    np.testing.assert_allclose(MODELS["williamson"].stress(rate, eta0=eta0, lam=lam, n=0.0),
+                               expected, rtol=1e-13)
+
+
+def test_williamson_is_cross_without_eta_inf():
+    # Cross (1965) with eta_inf = 0 and m = 1 - n has the same equation
+    rate = np.geomspace(1e-3, 1e4, 15)
+    np.testing.assert_allclose(
+        MODELS["williamson"].viscosity(rate, eta0=2.0, lam=0.7, n=0.35),
+        MODELS["cross"].viscosity(rate, eta0=2.0, eta_inf=0.0, lam=0.7, m=0.65), rtol=1e-13)
+
+
+def test_ellis_viscosity_is_half_of_eta0_at_tau_half():
+    # Bird, Armstrong & Hassager (1987), ch. 4 (from memory): eta0/eta = 1 + (tau/tau_half)^(alpha-1)
+    ellis, p = MODELS["ellis"], dict(eta0=2.0, tau_half=7.0, alpha=2.2)
+    rate = ellis.shear_rate(7.0, **p)
+    assert rate == pytest.approx(7.0 / 1.0, rel=1e-14)          # eta = eta0/2 = 1 Pa*s
+    assert ellis.viscosity(rate, **p) == pytest.approx(1.0, rel=1e-13)
+
+
+def test_ellis_thins_as_a_power_law_of_index_one_over_alpha():
+    # gd ~ tau^alpha / (eta0 tau_half^(alpha-1)) at high stress, so tau ~ gd^(1/alpha)
+    ellis, p = MODELS["ellis"], dict(eta0=1.0, tau_half=1.0, alpha=4.0)
+    rate = np.array([1e12, 1e13])
+    slope = np.diff(np.log(ellis.stress(rate, **p))) / np.diff(np.log(rate))
+    assert slope[0] == pytest.approx(0.25, rel=1e-3)
+
+
+# --- bounds follow physics -------------------------------------------------------------------
+
+def test_cross_above_m_one_rises_up_to_the_stated_peak():
+    # Derived here from Cross (1965) with eta_inf = 0: d/dx [x/(1+x^m)] = (1 - (m-1) x^m)/(1+x^m)^2,
+    # zero at x^m = 1/(m-1); m = 2 puts the peak at lam*gamma_dot = 1, the end of the box
+    cross = MODELS["cross"]
+    for m in (1.03, 1.5, 2.0):
+        peak = (1.0 / (m - 1.0)) ** (1.0 / m)
+        x = peak * np.array([0.999, 1.0, 1.001])
+        tau = cross.stress(x, eta0=1.0, eta_inf=0.0, lam=1.0, m=m)
+        assert tau[1] > tau[0] and tau[1] > tau[2]
+    assert cross.parameter("m").upper == 2.0
+    assert MODELS["williamson"].parameter("n").lower == 1.0 - 2.0

@@ -12,14 +12,15 @@ from importlib.resources import files
 import numpy as np
 import pytest
 
-from rheofit.errors import OutputExistsError
+from rheofit.errors import OutputExistsError, ParameterError
 from rheofit.fitting import fit_all
 from rheofit.flow import Slit, Tube, predict
 from rheofit.fluid import fluid
 from rheofit.ingest import read_flow_curve
 from rheofit.report import display, plots
 from rheofit.report.figures_fit import measured_points
-from rheofit.fitting.draws import viscosity_band
+from rheofit.fitting.band import drawn_band
+from rheofit.flow.curves import operating_curve, profile_against_newtonian
 
 TUBE = Tube("0.8 mm", "30 cm")
 SLIT = Slit("200 um", "8 mm", "2 cm")
@@ -144,7 +145,7 @@ def test_matplotlib_is_not_imported_with_rheofit():
 
 def test_flow_curve_has_log_axes_units_data_models_band_and_range(medium):
     curve, ranking = medium
-    figure = plots.flow_curve_figure(ranking, curve=curve, top=3)
+    figure = plots.flow_curve_figure(ranking, drawn_band(ranking[0]), curve=curve, top=3)
     axes = _axes(figure)
     assert axes.get_xscale() == "log" and axes.get_yscale() == "log"
     assert "[1/s]" in axes.get_xlabel() and "[Pa·s]" in axes.get_ylabel()
@@ -162,11 +163,13 @@ def test_flow_curve_has_log_axes_units_data_models_band_and_range(medium):
 def test_flow_curve_band_brackets_the_fitted_curve(medium):
     _, ranking = medium
     best = ranking[0]
-    rate = np.geomspace(*best.shear_rate_range, 50)
-    low, high = viscosity_band(best, rate)
-    eta = best.viscosity(rate)
+    band = drawn_band(best)
+    low, high, eta = band.low, band.high, band.viscosity
+    np.testing.assert_allclose(eta, best.viscosity(band.shear_rate), rtol=1e-12)
     assert np.all(low <= eta * (1 + 1e-9)) and np.all(eta <= high * (1 + 1e-9))
     assert np.all(high > low)
+    assert band.shear_rate[0] == best.shear_rate_range[0] and band.shear_rate[-1] == best.shear_rate_range[1]
+    assert band.level == 0.95 and band.samples >= 40 and "Monte Carlo" in band.method
 
 
 def test_flow_curve_extrapolated_part_is_dashed_beyond_the_data(medium):
@@ -174,7 +177,8 @@ def test_flow_curve_extrapolated_part_is_dashed_beyond_the_data(medium):
     best = ranking[0]
     priming = predict(best, TUBE, flow_rate=5000 * UL_PER_MIN, uncertainty=False)
     assert priming.wall_shear_rate > best.shear_rate_range[1]  # the case must lie outside
-    figure = plots.flow_curve_figure(ranking, curve=curve, operating=[("priming", priming)])
+    band = drawn_band(best, [float(priming.wall_shear_rate)])
+    figure = plots.flow_curve_figure(ranking, band, curve=curve, operating=[("priming", priming)])
     axes = _axes(figure)
     (outside,) = _labelled(axes, "extrapolated")
     inside = _exact(axes, f"{best.declaration.title} (chosen)")
@@ -200,9 +204,15 @@ def test_flow_curve_without_the_curve_rebuilds_the_data_from_the_residuals(mediu
 def test_flow_curve_survives_a_dollar_and_markup_in_the_sample_name(medium):
     curve, ranking = medium
     best = replace(ranking[0], name="lot $5 <b>")
-    figure = plots.flow_curve_figure([best])
+    figure = plots.flow_curve_figure([best], drawn_band(best))
     assert "$5 <b>" in _axes(figure).get_title().replace("\\$", "$")
     assert plots.svg_text(figure).startswith("<svg")
+
+
+def test_flow_curve_refuses_the_band_of_another_model(medium):
+    _, ranking = medium
+    with pytest.raises(ParameterError, match="band is of the .* model, but the chosen fit is"):
+        plots.flow_curve_figure(ranking, drawn_band(ranking[1]))
 
 
 # --- residuals -------------------------------------------------------------------------------
@@ -235,7 +245,7 @@ def test_velocity_profile_marks_the_plug_of_a_yield_stress_fluid(microgel):
     best = ranking[0]
     assert best.fluid.yield_stress > 0
     p = predict(best, SLIT, pressure_drop=300.0, uncertainty=False)
-    figure = plots.velocity_profile_figure(p)
+    figure = plots.velocity_profile_figure(p, profile_against_newtonian(p))
     axes = _axes(figure)
     (plug,) = _labelled(axes, "plug")
     left, right = _xspan(plug)
@@ -249,7 +259,7 @@ def test_velocity_profile_marks_the_plug_of_a_yield_stress_fluid(microgel):
 def test_velocity_profile_against_the_newtonian_parabola(medium):
     _, ranking = medium
     p = predict(ranking[0], TUBE, flow_rate=50 * UL_PER_MIN, uncertainty=False)
-    axes = _axes(plots.velocity_profile_figure(p))
+    axes = _axes(plots.velocity_profile_figure(p, profile_against_newtonian(p)))
     (model,) = _labelled(axes, "model")
     newtonian = _exact(axes, "Newtonian, same flow rate")
     # Source: Hagen-Poiseuille profile, u_max = 2 V in a tube (Bird, Stewart & Lightfoot 2002, eq. 2.3-19)
@@ -261,7 +271,7 @@ def test_velocity_profile_against_the_newtonian_parabola(medium):
 def test_velocity_profile_of_a_slit_peaks_at_one_and_a_half_times_the_mean():
     water = fluid("newtonian", mu=1e-3)
     p = predict(water, SLIT, flow_rate=50 * UL_PER_MIN)
-    axes = _axes(plots.velocity_profile_figure(p))
+    axes = _axes(plots.velocity_profile_figure(p, profile_against_newtonian(p)))
     newtonian = _exact(axes, "Newtonian, same flow rate")
     # Source: plane Poiseuille flow, u_max = 3/2 V (Bird, Stewart & Lightfoot 2002, problem 2B.3)
     assert max(newtonian.get_ydata()) == pytest.approx(1.5 * p.mean_velocity * 1e3, rel=1e-6)
@@ -271,7 +281,7 @@ def test_velocity_profile_says_no_flow_below_the_threshold(microgel):
     _, ranking = microgel
     p = predict(ranking[0], SLIT, pressure_drop=100.0, uncertainty=False)
     assert not p.flowing
-    axes = _axes(plots.velocity_profile_figure(p))
+    axes = _axes(plots.velocity_profile_figure(p, profile_against_newtonian(p)))
     texts = " ".join(t.get_text() for t in axes.texts)
     assert "No flow" in texts and "159" in texts
 
@@ -282,7 +292,7 @@ def test_operating_curve_has_the_band_the_newtonian_lines_and_the_point(medium):
     _, ranking = medium
     best = ranking[0]
     p = predict(best, TUBE, flow_rate=50 * UL_PER_MIN)
-    figure = plots.operating_curve_figure(p, best)
+    figure = plots.operating_curve_figure(p, operating_curve(p, best))
     axes = _axes(figure)
     assert axes.get_xscale() == "linear" and axes.get_xlim()[0] == 0.0 and axes.get_ylim()[0] == 0.0
     assert "[µL/min]" in axes.get_xlabel() and "[kPa]" in axes.get_ylabel()
@@ -304,7 +314,7 @@ def test_operating_curve_of_a_newtonian_fluid_is_hagen_poiseuille():
     mu = 1e-3
     water = fluid("newtonian", mu=mu)
     p = predict(water, TUBE, flow_rate=50 * UL_PER_MIN)
-    axes = _axes(plots.operating_curve_figure(p))
+    axes = _axes(plots.operating_curve_figure(p, operating_curve(p)))
     (model,) = _labelled(axes, "model")
     q = np.asarray(model.get_xdata()) * UL_PER_MIN
     # Source: Hagen-Poiseuille, dP = 8 mu L Q / (pi R^4) (Bird, Stewart & Lightfoot 2002, eq. 2.3-21)
@@ -318,7 +328,7 @@ def test_operating_curve_shows_the_threshold_and_a_point_that_does_not_flow(micr
     _, ranking = microgel
     best = ranking[0]
     p = predict(best, SLIT, pressure_drop=100.0, uncertainty=False)
-    axes = _axes(plots.operating_curve_figure(p, best))
+    axes = _axes(plots.operating_curve_figure(p, operating_curve(p, best)))
     (threshold,) = _labelled(axes, "threshold")
     # slit threshold dP = tau_y L / h (force balance; Bird, Stewart & Lightfoot 2002, ch. 2)
     assert threshold.get_ydata()[0] == pytest.approx(best.fluid.yield_stress * SLIT.length / SLIT.half_gap)

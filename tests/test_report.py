@@ -18,6 +18,7 @@ from rheofit.errors import FitError, GeometryError, OutputExistsError
 from rheofit.flow import SAFETY_CAUTION, Tube
 from rheofit.ingest import read_flow_curve
 from rheofit.jobs.analysis import OperatingCase, analyse, compare_samples, fit_curve
+from rheofit.models import MODELS
 from rheofit.report.display import number
 from rheofit.report.figureset import figure_plan
 from rheofit.report.html import build_report, report_files, write_report
@@ -116,6 +117,19 @@ def test_the_fit_table_has_the_ranking_and_the_interval_columns(analysis, report
             assert (number(high) if high is not None else "open") in text
 
 
+
+def test_the_chosen_fit_s_correlations_are_listed(analysis, report):
+    # the pairs and values of FitResult.correlations (checked against the straight-line
+    # closed form in test_fitting); here: each one is in the report, largest first
+    text = "".join(parse(report).text)
+    assert "correlation r" in text
+    for sample in analysis.samples:
+        pairs = sample.chosen.correlations()
+        assert pairs  # the four-parameter fits of lots A and C have correlated estimates
+        cells = [f"{a} and {b}{r:+.3f}" for a, b, r in pairs]
+        places = [text.index(cell) for cell in cells]
+        assert places == sorted(places)
+
 def test_flags_appear_in_plain_words(analysis, report):
     messages = [f.message for s in analysis.samples for f in s.chosen.flags]
     messages += [f.message for s in analysis.samples for c in s.cases for f in c.prediction.flags]
@@ -163,6 +177,22 @@ def test_a_report_without_geometry_has_fits_but_no_flow_section(single):
     assert "Models ranked by AICc" in document
     assert sum(1 for tag, _ in parse(document).tags if tag == "svg") == 2
 
+
+
+def test_the_report_lists_the_models_not_fitted_and_why():
+    # Invented data: four points of a power-law fluid.  A least-squares fit of k parameters
+    # needs N >= k + 1 points (one degree of freedom for the error variance; common practice,
+    # no source), so every model with four or more parameters is left out, with the reason.
+    rate = [1.0, 10.0, 100.0, 1000.0]
+    curve = FlowCurve.from_arrays(rate, stress=[2.0 * r**0.5 for r in rate], name="short")
+    analysis = analyse([curve])
+    too_many = {m.name for m in MODELS.values() if len(m.parameters) + 1 > len(rate)}
+    skipped = dict(analysis.samples[0].ranking.skipped)
+    assert too_many and too_many <= set(skipped)
+    text = "".join(parse(build_report(analysis)).text)
+    assert "Not fitted:" in text
+    for name, why in skipped.items():
+        assert f"{name}: {why}" in text
 
 # --- analysis errors ----------------------------------------------------------------------------
 

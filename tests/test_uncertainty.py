@@ -15,6 +15,7 @@ import pytest
 from scipy import stats
 
 from rheofit.fitting import draws as uncertainty
+from rheofit.fitting.draws import STILL_MOVING
 from rheofit.flow import intervals as flow_intervals
 from rheofit.curve import FlowCurve
 from rheofit.errors import GeometryError, ParameterError
@@ -39,6 +40,7 @@ def sweep(model, true, rate_range, points, noise, rng, name="synthetic"):
 COVERAGE_REPLICATES = 150
 
 
+@pytest.mark.slow
 def test_pressure_drop_interval_covers_the_truth_about_95_percent_of_the_time(record_property):
     """Replicated power-law sweeps (12 points, 3 % log-normal noise, fixed seed).
 
@@ -273,13 +275,33 @@ def plateau_only():
 
 
 def test_interval_resting_on_a_range_limit_is_flagged(plateau_only):
-    assert not plateau_only.params["n"].resolved
+    # The sweep ends at lam * rate = 0.05, before any shear thinning, so the data cannot set n.
+    # Which other parameters come out open depends on the optimiser's path (numpy 1.26 and 2.4
+    # differ), so the flags are checked against the fit's own unresolved set, not a fixed list.
+    unresolved = {name for name, p in plateau_only.params.items() if not p.resolved}
+    assert "n" in unresolved
     inside = predict(plateau_only, TUBE, flow_rate=1e-10)   # wall shear rate ~2 1/s: near the data
     beyond = predict(plateau_only, TUBE, flow_rate=1e-8)    # ~200 1/s: shear thinning never seen
     assert "interval_unreliable" not in [f.code for f in inside.flags]
     flags = [f for f in beyond.flags if f.code == "interval_unreliable"]
-    assert flags and {f.data["parameter"] for f in flags} <= {"n", "lam"}
-    assert "not set by the data" in flags[0].message
+    named = {(f.data["parameter"], f.data["side"]) for f in flags if "parameter" in f.data}
+    # every parameter a flag names is one the data leave unresolved ...
+    assert flags and {name for name, _ in named} <= unresolved
+    assert all("not set by the data" in f.message for f in flags if "parameter" in f.data)
+    # ... and every unresolved parameter whose profile sweep reaches its declared limit with the
+    # pressure drop still moving (by twice the module's threshold, to stay clear of the edge) is
+    # named, on that side; at least one does here, since beyond the data dP hangs on n.
+    draws = uncertainty.parameter_draws(plateau_only)
+    moving = set()
+    for path in draws.paths:
+        if not path.at_limit:
+            continue
+        rows = draws.ridge[list(path.rows[-2:])]
+        drops = [predict(f, TUBE, flow_rate=1e-8).pressure_drop for f in draws.fluids(rows)]
+        before = beyond.pressure_drop if len(drops) == 1 else drops[0]
+        if abs(drops[-1] - before) > 2 * STILL_MOVING * beyond.pressure_drop:
+            moving.add((path.parameter, path.side))
+    assert moving and moving <= named
     low, high = beyond.pressure_drop_ci95
     assert 0 < low < beyond.pressure_drop < high and high / low > 10
 

@@ -1,9 +1,11 @@
 """Unit parsing at the edges: every spelling people and instruments use."""
 
+import re
+
 import pytest
 
-from rheofit.errors import UnitError
-from rheofit.units import is_unit_of, parse_quantity, to_si
+from rheofit.errors import ParameterError, UnitError
+from rheofit.units import is_unit_of, parse_quantity, parse_tolerance, parse_typed, to_si
 
 # Source: BIPM, The International System of Units (SI Brochure), 9th ed. (2019),
 # Table 8 (non-SI units): 1 P = 1 dyn s cm^-2 = 0.1 Pa s; hence 1 cP = 1 mPa s.
@@ -36,7 +38,8 @@ def test_shear_rate_units(unit):
         ("2 bar", "pressure", 2e5),  # 1 bar = 1e5 Pa (SI Brochure 2019, Table 8)
         ("1.05 g/mL", "density", 1050.0),
         ("37 °C", "temperature", 310.15),  # T/K = t/°C + 273.15 (SI Brochure 2019, 2.3.1)
-        ("3", "length", 3.0),
+        (3, "length", 3.0),  # a number (not text) is SI already
+        ("0,5 mm", "length", 5e-4),  # a decimal comma, read as such
     ],
 )
 def test_parse_quantity(text, kind, expected):
@@ -71,3 +74,69 @@ def test_unreadable_quantity_gives_example():
 def test_is_unit_of():
     assert is_unit_of("cP", "viscosity")
     assert not is_unit_of("cP", "stress")
+
+
+def test_parse_tolerance_directly():
+    # 1 % = 0.01 (BIPM SI Brochure, 9th ed. (2019), sec. 5.4.7; section from memory)
+    assert parse_tolerance("2.5 %") == pytest.approx(0.025)
+    with pytest.raises(ParameterError, match="positive fraction"):
+        parse_tolerance("0")
+
+
+# --- typed quantities: a unit is required, and the value must be one a channel can have ------------
+
+@pytest.mark.parametrize("text, words", [
+    ("0.5", "has no unit; give a number and a unit of length (mm or um), e.g. '0.5 mm'"),
+    ("5 Pa", "unit 'Pa' is not a unit of length"),
+    ("nan mm", "is not a finite number"),
+    ("inf mm", "is not a finite number"),
+    ("1e400 mm", "is too large to compute with"),
+    ("1e306 km", "is too large to compute with"),  # finite as typed, overflows in metres
+    ("-5 mm", "is negative"),
+    ("0 mm", "is zero"),
+    ("1,500 mm", "could be 1.500 (a decimal comma) or 1500 (a thousands separator)"),
+    ("1,000.5 mm", "thousands separator"),
+    ("half a mm", "Cannot read --diameter 'half a mm' as a length"),
+])
+def test_parse_typed_refuses_in_one_sentence_naming_the_option(text, words):
+    with pytest.raises(UnitError) as caught:
+        parse_typed(text, "length", "--diameter")
+    message = str(caught.value)
+    assert words in message and "--diameter" in message and message.endswith(".")
+
+
+@pytest.mark.parametrize("text, expected", [
+    ("0,5 mm", 5e-4), ("0,500 mm", 5e-4), ("2,5e-1 mm", 2.5e-4), ("0.5mm", 5e-4), ("+1 cm", 0.01),
+])
+def test_parse_typed_reads_decimal_commas_and_signs(text, expected):
+    assert parse_typed(text, "length", "--diameter") == pytest.approx(expected, rel=1e-12)
+
+
+def test_python_text_without_a_unit_is_refused_but_numbers_are_si():
+    from rheofit.flow import Tube
+
+    with pytest.raises(UnitError, match=r"^Tube diameter '0.5' has no unit"):
+        Tube("0.5", "10 cm")
+    assert Tube(0.5e-3, "10 cm").diameter == 5e-4
+
+
+@pytest.mark.parametrize("text, expected", [
+    ("10%", 0.10), ("10 %", 0.10), ("0.1", 0.10), (0.1, 0.10), ("2,5 %", 0.025), ("150%", 1.5),
+])
+def test_tolerance_as_percentage_or_fraction(text, expected):
+    # 1 % = 0.01 (BIPM SI Brochure, 9th ed. (2019), sec. 5.4.7; section from memory)
+    assert parse_tolerance(text) == pytest.approx(expected, rel=1e-12)
+
+
+@pytest.mark.parametrize("text, words", [
+    ("10", "ambiguous (as a fraction it means 1000 %); write '10%'"),
+    (10, "ambiguous"),
+    ("1", "ambiguous (as a fraction it means 100 %)"),
+    ("10%%", "is not a positive fraction or percentage"),
+    ("-5%", "is not a positive"),
+    ("nan", "is not a positive"),
+    ("inf%", "is not a positive"),
+])
+def test_tolerance_that_could_be_misread_is_refused(text, words):
+    with pytest.raises(ParameterError, match=re.escape(words)):
+        parse_tolerance(text, "--tolerance")

@@ -35,10 +35,11 @@ def user_errors(command):
 
     @functools.wraps(command)
     def wrapper(*args, **kwargs):
-        from rheofit.errors import RheofitError
+        from rheofit.errors import RheofitError, command_line_spelling
 
         try:
-            return command(*args, **kwargs)
+            with command_line_spelling():  # messages name --column viscosity=2, not viscosity_column=2
+                return command(*args, **kwargs)
         except RheofitError as exc:
             error_line(str(exc))
         except OSError as exc:  # a path the system refuses: say which and why, in one line
@@ -58,45 +59,83 @@ def emit_json(document: dict, out: Optional[Path], force: bool) -> None:
         sys.stdout.write(text + "\n")
 
 
-_ROLES = ("shear_rate", "viscosity", "stress", "temperature")
+def quantities(**given) -> dict:
+    """Typed quantity options (``flow_rate="10 uL/min"``) -> SI floats; None stays None.
+
+    Each is parsed by :func:`rheofit.units.parse_typed` under its option's
+    name (a unit is required, the value must be positive and finite), all of
+    them before anything else is checked or read.
+    """
+    from rheofit.cli.options import QUANTITIES
+    from rheofit.units import parse_typed
+
+    parsed = {}
+    for key, text in given.items():
+        option = "--" + key.replace("_", "-")
+        parsed[key] = None if text is None else parse_typed(text, QUANTITIES[option], option)
+    return parsed
 
 
-def read_overrides(columns: Optional[list[str]], units: Optional[list[str]]) -> dict:
-    """--column/--unit 'role=value' pairs -> importer keywords (viscosity_unit=..., ...)."""
+def import_keywords(columns: Optional[list[str]], units: Optional[list[str]], curve: Optional[str] = None,
+            segment: str = "all") -> dict:
+    """--column, --unit, --curve and --segment -> importer keywords (viscosity_unit=..., curve=...).
+
+    ``--column ROLE=NUMBER`` names a column by its number counted from 1.
+    """
     from rheofit.errors import ParameterError, choice_message
+    from rheofit.ingest import ROLES
+    from rheofit.ingest.sweep import check_segment
 
-    overrides = {}
+    keywords = {"segment": check_segment(segment)}
     for option, suffix, pairs in (("--column", "column", columns), ("--unit", "unit", units)):
         for pair in pairs or ():
             role, found, value = pair.partition("=")
-            role = role.strip().replace("-", "_").replace(" ", "_")
-            if not found or not value.strip():
+            role, value = role.strip().replace("-", "_").replace(" ", "_"), value.strip()
+            if not found or not value:
                 raise ParameterError(f"{option} '{pair}' should read ROLE=VALUE, e.g. {option} viscosity=...")
-            if role not in _ROLES:
-                raise ParameterError(choice_message(f"{option} role", role, _ROLES))
-            overrides[f"{role}_{suffix}"] = value.strip()
-    return overrides
+            if role not in ROLES:
+                raise ParameterError(choice_message(f"{option} role", role, ROLES))
+            keywords[f"{role}_{suffix}"] = int(value) if suffix == "column" and value.isdigit() else value
+    if curve is not None:
+        keywords["curve"] = int(curve) if curve.strip().isdigit() else curve
+    return keywords
 
 
+def read_curves(path, keywords: dict) -> list:
+    """The curves of one data file as :func:`import_keywords` asks (the one ``--curve`` picks, if given)."""
+    from rheofit.ingest import read_flow_curve, read_flow_curves
+
+    keywords = dict(keywords)
+    curve = keywords.pop("curve", None)
+    if curve is None:
+        return read_flow_curves(path, **keywords)
+    return [read_flow_curve(path, curve=curve, **keywords)]
 
 
-def load_source(source: Path, model: Optional[str], curve: Optional[str] = None,
-                overrides: Optional[dict] = None):
+def load_source(source: Path, model: Optional[str], keywords: dict):
     """A FitResult from a saved fit (JSON) or from fitting a data file on the spot."""
     from rheofit.fitting.saved import is_saved_fit, load_fit
 
     if is_saved_fit(source):
-        return load_fit(source, model=model, curve=curve)
+        given = [k for k, v in keywords.items() if k != "curve" and v not in (None, "all")]
+        if given:
+            from rheofit.errors import ParameterError
+
+            raise ParameterError(
+                f"'{source}' is a saved fit; --column, --unit and --segment apply to a data file, "
+                "so give the sweep (CSV) or leave them out."
+            )
+        return load_fit(source, model=model, curve=keywords.get("curve"))
     from rheofit.fitting import fit, fit_all
     from rheofit.ingest import read_flow_curve
 
-    pick = int(curve) if curve and curve.isdigit() else curve
-    curve = read_flow_curve(source, curve=pick, **(overrides or {}))
+    keywords = dict(keywords)
+    curve = read_flow_curve(source, curve=keywords.pop("curve", None), **keywords)
     return fit(curve, model) if model else fit_all(curve)[0]
 
 
 def make_geometry(diameter, gap, width, length):
-    """Tube or Slit from the CLI's text options (units parsed by the geometry)."""
+    """Tube or Slit from the CLI's channel options, already in SI (see :func:`quantities`)."""
     from rheofit.errors import GeometryError
     from rheofit.flow import Slit, Tube
 
@@ -112,12 +151,9 @@ def make_geometry(diameter, gap, width, length):
 
 
 def operating_point(flow_rate, pressure_drop) -> dict:
-    """{'flow_rate': SI} or {'pressure_drop': SI} from exactly one option."""
+    """{'flow_rate': SI} or {'pressure_drop': SI} from exactly one option (already in SI)."""
     from rheofit.errors import GeometryError
-    from rheofit.units import parse_quantity
 
     if (flow_rate is None) == (pressure_drop is None):
         raise GeometryError("Give exactly one of --flow-rate (e.g. '10 uL/min') or --pressure-drop (e.g. '25 kPa').")
-    if flow_rate is not None:
-        return {"flow_rate": parse_quantity(flow_rate, "flow_rate")}
-    return {"pressure_drop": parse_quantity(pressure_drop, "pressure")}
+    return {"flow_rate": flow_rate} if flow_rate is not None else {"pressure_drop": pressure_drop}

@@ -13,25 +13,8 @@ from typing import Optional
 
 import typer
 
-from rheofit.cli.common import make_geometry, operating_point, user_errors
-from rheofit.cli.options import DIAMETER, FLOW_RATE, GAP, LENGTH, PRESSURE_DROP, WIDTH
-
-
-def parse_tolerance(text: str) -> float:
-    """'10%', '10 %' or '0.1' -> 0.1 (units parsed by rheofit.units); ParameterError otherwise."""
-    from rheofit.errors import ParameterError, UnitError
-    from rheofit.units import parse_quantity
-
-    try:
-        value = parse_quantity(text, "dimensionless")
-    except UnitError:
-        value = float("nan")
-    if not 0 < value < float("inf"):
-        raise ParameterError(
-            f"--tolerance '{text}' is not a positive fraction or percentage; write e.g. '10%', "
-            "'10 %' or '0.1'."
-        )
-    return value
+from rheofit.cli.common import import_keywords, make_geometry, operating_point, quantities, read_curves, user_errors
+from rheofit.cli.options import COLUMN, CURVE, DIAMETER, FLOW_RATE, GAP, LENGTH, PRESSURE_DROP, SEGMENT, UNIT, WIDTH
 
 
 def pick_reference(text: str, labels) -> int:
@@ -50,18 +33,16 @@ def pick_reference(text: str, labels) -> int:
     raise ParameterError(choice_message("lot", text, labels))
 
 
-def read_lots(files, console) -> list:
-    """Every curve of every file, in order (each curve is a lot), with progress."""
+def read_lots(files, console, keywords: dict) -> list:
+    """Every curve of every file (as ``keywords`` ask), in order (each curve is a lot), with progress."""
     from rich.progress import Progress
-
-    from rheofit.ingest import read_flow_curves
 
     curves = []
     with Progress(console=console, transient=True) as bar:
         task = bar.add_task("reading", total=len(files))
         for path in files:
             bar.update(task, description=f"reading {Path(path).name}")
-            curves += read_flow_curves(path)
+            curves += read_curves(path, keywords)
             bar.advance(task)
     return curves
 
@@ -103,33 +84,40 @@ def compare_command(
     length: Optional[str] = LENGTH,
     flow_rate: Optional[str] = FLOW_RATE,
     pressure_drop: Optional[str] = PRESSURE_DROP,
-    tolerance: str = typer.Option("10%", "--tolerance", "-t", help="Allowed relative difference from the reference lot: '10%', '10 %' or '0.1'."),
+    tolerance: str = typer.Option("10%", "--tolerance", "-t", help="Allowed relative difference from the reference lot: a percentage ('10%', '10 %') or a fraction below 1 ('0.1'); a bare 10 is refused."),
     model: Optional[str] = typer.Option(None, "--model", "-m", help="One model for every lot (default: the best by AICc summed over the lots)."),
     reference: str = typer.Option("1", "--reference", "-r", help="Reference lot: its number from 1 in the order read, or its name."),
     as_json: bool = typer.Option(False, "--json", help="Print the comparison as JSON (SI units)."),
     out: Optional[Path] = typer.Option(None, "--out", "-o", help="Save the comparison: JSON, or the lot table when the name ends in .csv."),
     force: bool = typer.Option(False, "--force", help="Overwrite --out if it exists."),
+    column: Optional[list[str]] = COLUMN,
+    unit: Optional[list[str]] = UNIT,
+    curve: Optional[str] = CURVE,
+    segment: str = SEGMENT,
 ):
     """Compare lots: one model, parameters and the operating point against a reference lot, a same-curve test."""
     from rich.console import Console
 
     from rheofit.report.console_compare import comparison_block
     from rheofit.lots import lot_labels
-    from rheofit.errors import OutputExistsError, ParameterError
+    from rheofit.errors import ParameterError
+    from rheofit.output import check_target
+    from rheofit.units import parse_tolerance
     from rheofit.models import get_model
 
-    if out is not None and out.exists() and not force:
-        raise OutputExistsError(f"Output file '{out}' already exists; choose another name or pass --force to overwrite it.")
-    fraction = parse_tolerance(tolerance)
+    typed = quantities(diameter=diameter, gap=gap, width=width, length=length, flow_rate=flow_rate,
+                       pressure_drop=pressure_drop)
+    keywords = import_keywords(column, unit, curve, segment)
+    check_target(out, force=force)
+    fraction = parse_tolerance(tolerance, "--tolerance")
     model = None if model is None else get_model(model).name
-    channel = (diameter, gap, width, length, flow_rate, pressure_drop)
-    if all(option is None for option in channel):  # the curves alone are compared
+    if all(value is None for value in typed.values()):  # the curves alone are compared
         geometry, point = None, {}
     else:
-        geometry = make_geometry(diameter, gap, width, length)
-        point = operating_point(flow_rate, pressure_drop)
+        geometry = make_geometry(typed["diameter"], typed["gap"], typed["width"], typed["length"])
+        point = operating_point(typed["flow_rate"], typed["pressure_drop"])
     status = Console(stderr=True)
-    curves = read_lots(files, status)
+    curves = read_lots(files, status, keywords)
     if len(curves) < 2:
         raise ParameterError(f"A comparison needs at least two lots; the file(s) given hold {len(curves)} curve(s).")
     index = pick_reference(reference, list(lot_labels(curves)))

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from pathlib import Path
+from typing import Optional
 
 import typer
 
@@ -17,7 +18,7 @@ def _stdout():
 
 @user_errors
 def demo_command(
-    out: Path = typer.Option(Path("rheofit-demo"), "--out", "-o", help="Folder for the demo's report and saved fits."),
+    out: Optional[Path] = typer.Option(None, "--out", "-o", help="Folder for the demo's report and saved fits (made if missing; its parent must exist). Default: a fresh folder under the system's temporary directory."),
     force: bool = typer.Option(False, "--force", help="Overwrite an earlier demo's files in that folder."),
 ):
     """Run the whole job on the bundled (invented) sample sweeps and write a report."""

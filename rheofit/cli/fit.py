@@ -7,21 +7,21 @@ from typing import Optional
 
 import typer
 
-from rheofit.cli.common import console, emit_json, read_overrides, user_errors
-from rheofit.cli.options import COLUMN, UNIT
+from rheofit.cli.common import console, emit_json, import_keywords, read_curves, user_errors
+from rheofit.cli.options import COLUMN, CURVE, SEGMENT, UNIT
 
 
 def fit_files(files, model: str, overrides: Optional[dict] = None):
-    """Read every curve of every file and fit it: [(curve, [FitResult best first])]."""
+    """Read the curves of every file (as ``overrides`` ask, see import_keywords) and fit them:
+    [(curve, [FitResult best first])]."""
     from rheofit.fitting import fit, fit_all
-    from rheofit.ingest import read_flow_curves
     from rheofit.models import get_model
 
     chosen = None if model == "all" else get_model(model).name
     groups = []
     with console(stderr=True).status("reading") as status:  # shown on a terminal only
         for path in files:
-            for curve in read_flow_curves(path, **(overrides or {})):
+            for curve in read_curves(path, overrides or {}):
                 status.update(f"fitting {curve.name} ({len(groups) + 1} so far)")
                 results = fit_all(curve) if chosen is None else [fit(curve, chosen)]
                 groups.append((curve, results))
@@ -37,15 +37,16 @@ def fit_command(
     force: bool = typer.Option(False, "--force", help="Overwrite --out if it exists."),
     column: Optional[list[str]] = COLUMN,
     unit: Optional[list[str]] = UNIT,
+    curve: Optional[str] = CURVE,
+    segment: str = SEGMENT,
 ):
     """Fit viscosity models to flow curves, with 95 % intervals and a ranking."""
     from rheofit.fitting.saved import fits_document
 
-    if out is not None and out.exists() and not force:
-        from rheofit.errors import OutputExistsError
+    from rheofit.output import check_target
 
-        raise OutputExistsError(f"Output file '{out}' already exists; choose another name or pass --force to overwrite it.")
-    groups = fit_files(files, model, read_overrides(column, unit))
+    check_target(out, force=force)
+    groups = fit_files(files, model, import_keywords(column, unit, curve, segment))
     document = fits_document(groups)
     if as_json:
         emit_json(document, out, force)

@@ -9,8 +9,10 @@ from typing import Optional
 
 import typer
 
-from rheofit.cli.common import console, load_source, make_geometry, operating_point, read_overrides, user_errors
-from rheofit.cli.options import COLUMN, DENSITY, DIAMETER, FLOW_RATE, GAP, LENGTH, PRESSURE_DROP, UNIT, WIDTH
+from rheofit.cli.common import (console, import_keywords, load_source, make_geometry, operating_point,
+                                quantities, user_errors)
+from rheofit.cli.options import (COLUMN, CURVE, DENSITY, DIAMETER, FLOW_RATE, GAP, LENGTH, NEWTONIAN_VISCOSITY,
+                                 PRESSURE_DROP, SEGMENT, UNIT, WIDTH)
 
 
 @user_errors
@@ -23,30 +25,32 @@ def flow_command(
     flow_rate: Optional[str] = FLOW_RATE,
     pressure_drop: Optional[str] = PRESSURE_DROP,
     model: Optional[str] = typer.Option(None, "--model", "-m", help="Model to use (default: the best by AICc)."),
-    curve: Optional[str] = typer.Option(None, "--curve", help="Which curve of a file holding several (number from 1, or label such as '37 °C')."),
     density: Optional[str] = DENSITY,
-    newtonian_viscosity: Optional[str] = typer.Option(None, "--newtonian-viscosity", help="Reference viscosity for the Newtonian comparison, e.g. '50 mPa s' (default: the model's viscosity at the apparent wall shear rate)."),
+    newtonian_viscosity: Optional[str] = NEWTONIAN_VISCOSITY,
     as_json: bool = typer.Option(False, "--json", help="Print the prediction as JSON (SI units)."),
     column: Optional[list[str]] = COLUMN,
     unit: Optional[list[str]] = UNIT,
+    curve: Optional[str] = CURVE,
+    segment: str = SEGMENT,
 ):
     """Predict pressure drop or flow rate, wall shear and velocity profile in a tube or slit."""
     from rheofit.flow import predict
-    from rheofit.units import parse_quantity
 
+    typed = quantities(diameter=diameter, gap=gap, width=width, length=length, flow_rate=flow_rate,
+                       pressure_drop=pressure_drop, density=density, newtonian_viscosity=newtonian_viscosity)
+    keywords = import_keywords(column, unit, curve, segment)
     if model is not None:
         from rheofit.models import get_model
 
         model = get_model(model).name
-    geometry = make_geometry(diameter, gap, width, length)
-    point = operating_point(flow_rate, pressure_drop)
-    reference = None if newtonian_viscosity is None else parse_quantity(newtonian_viscosity, "viscosity")
-    if density is not None:
-        point["density"] = parse_quantity(density, "density")
+    geometry = make_geometry(typed["diameter"], typed["gap"], typed["width"], typed["length"])
+    point = operating_point(typed["flow_rate"], typed["pressure_drop"])
+    if typed["density"] is not None:
+        point["density"] = typed["density"]
     with console(stderr=True).status(f"fitting {source.name}"):  # shown on a terminal only
-        result = load_source(source, model, curve, read_overrides(column, unit))
+        result = load_source(source, model, keywords)
     with console(stderr=True).status("solving the flow and its 95 % interval"):
-        prediction = predict(result, geometry, newtonian_viscosity=reference, **point)
+        prediction = predict(result, geometry, newtonian_viscosity=typed["newtonian_viscosity"], **point)
     if as_json:
         sys.stdout.write(json.dumps(prediction.to_dict(), indent=2) + "\n")
         return

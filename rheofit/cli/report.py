@@ -12,8 +12,9 @@ from typing import Optional
 
 import typer
 
-from rheofit.cli.common import make_geometry, operating_point, user_errors
-from rheofit.cli.options import DENSITY, DIAMETER, FLOW_RATE, GAP, LENGTH, PRESSURE_DROP, WIDTH
+from rheofit.cli.common import import_keywords, make_geometry, operating_point, quantities, read_curves, user_errors
+from rheofit.cli.options import (COLUMN, CURVE, DENSITY, DIAMETER, FLOW_RATE, GAP, LENGTH, PRESSURE_DROP, SEGMENT,
+                                 UNIT, WIDTH)
 
 
 def _stdout():
@@ -22,10 +23,9 @@ def _stdout():
     return Console()
 
 
-def _read_curves(files):
-    """Every curve of every file (a saved-fit JSON is refused: the report shows the data)."""
+def _read_curves(files, keywords: dict):
+    """Every curve of every file, as ``keywords`` ask (a saved-fit JSON is refused: the report shows the data)."""
     from rheofit.errors import InputFileError
-    from rheofit.ingest import read_flow_curves
     from rheofit.fitting.saved import is_saved_fit
 
     for path in files:
@@ -34,11 +34,11 @@ def _read_curves(files):
                 f"'{path}' is a saved fit; the report needs the measured sweep it was fitted from "
                 "(the CSV export), to show the data and the residuals."
             )
-    return [curve for path in files for curve in read_flow_curves(path)]
+    return [curve for path in files for curve in read_curves(path, keywords)]
 
 
 def _case(diameter, gap, width, length, flow_rate, pressure_drop):
-    """The operating case from the flow options, or None when none of them is given."""
+    """The operating case from the flow options (SI), or None when none of them is given."""
     from rheofit.jobs.analysis import OperatingCase
     from rheofit.report.display import shown
 
@@ -65,25 +65,34 @@ def report_command(
     density: Optional[str] = DENSITY,
     figures: Optional[Path] = typer.Option(None, "--figures", help="Also write every figure as PNG and SVG into this folder."),
     force: bool = typer.Option(False, "--force", help="Overwrite the report (and figure files) if they exist."),
+    column: Optional[list[str]] = COLUMN,
+    unit: Optional[list[str]] = UNIT,
+    curve: Optional[str] = CURVE,
+    segment: str = SEGMENT,
 ):
     """Write one self-contained HTML report: fits, flags, flow prediction, lot comparison, figures."""
     from rheofit.models import get_model
     from rheofit.jobs.analysis import analyse
-    from rheofit.output import make_folder
-    from rheofit.report.html import refuse_existing, write_report
+    from rheofit.output import check_target, make_folder
+    from rheofit.report.html import write_report
     from rheofit.cli.progress import rich_steps
-    from rheofit.units import parse_quantity
 
-    if not force:
-        refuse_existing([out])
+    typed = quantities(diameter=diameter, gap=gap, width=width, length=length, flow_rate=flow_rate,
+                       pressure_drop=pressure_drop, density=density)
+    keywords = import_keywords(column, unit, curve, segment)
+    check_target(out, force=force)
     if figures is not None:
         make_folder(figures)
     model = None if model is None else get_model(model).name
-    case = _case(diameter, gap, width, length, flow_rate, pressure_drop)
-    rho = None if density is None else parse_quantity(density, "density")
-    curves = _read_curves(files)  # before the progress display, so an error stands alone
+    rho = typed.pop("density")
+    case = _case(**typed)
+    curves = _read_curves(files, keywords)  # before the progress display, so an error stands alone
     with rich_steps() as steps:
         analysis = analyse(curves, model=model, cases=[case] if case else [], density=rho, steps=steps)
         path = write_report(out, analysis, figures_dir=figures, force=force, steps=steps)
     where = f"; figures in {figures}" if figures is not None else ""
     _stdout().print(f"Report written to {path} ({len(analysis.samples)} sample(s){where}).", highlight=False)
+    notes = [f"  • {c.name}: {flag.message}" for c in curves for flag in c.flags]
+    if notes:  # what the importer noticed is worth a word before the report is opened
+        _stdout().print("Flags from reading the files (also in the report):\n" + "\n".join(notes),
+                        highlight=False, markup=False)

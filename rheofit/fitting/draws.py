@@ -44,9 +44,9 @@ Method (propagation of distributions by Monte Carlo)
    physical zero), the end rests on that limit, not on the data: the result
    carries an ``interval_unreliable`` flag.
 
-Public helpers: :func:`parameter_draws`, :func:`flow_intervals` (used by
-:func:`rheofit.flow.predict`), :func:`viscosity_band` and
-:func:`operating_band` (for figures).
+Public helpers: :func:`parameter_draws`, :func:`viscosity_band` (drawn as
+:class:`rheofit.fitting.band.ViscosityBand`); the flow engine carries the
+draws in :mod:`rheofit.flow.intervals`.
 
 Units: shear rate [1/s], viscosity [Pa*s], pressure [Pa], flow rate [m^3/s].
 """
@@ -412,12 +412,14 @@ def _viscosities(draws: ParameterDraws, rows, rate) -> np.ndarray:
 
 
 def viscosity_band(fit, shear_rate, level: float = LEVEL, *, samples: int = BAND_SAMPLES,
-                   seed: int | None = DEFAULT_SEED) -> tuple[np.ndarray, np.ndarray]:
+                   seed: int | None = DEFAULT_SEED, draws: ParameterDraws | None = None
+                   ) -> tuple[np.ndarray, np.ndarray]:
     """Confidence band (low, high) [Pa*s] of the fitted viscosity curve at ``shear_rate`` [1/s].
 
     Percentiles (1 - level)/2 and (1 + level)/2 of eta(gamma_dot; x) over the
     parameter draws, widened along unresolved parameters (module docstring).
-    Arrays shaped like ``shear_rate``.
+    Arrays shaped like ``shear_rate``.  ``draws`` reuses draws already made
+    for ``fit`` (``samples`` and ``seed`` are then not used).
 
     Raises ParameterError for a fluid without a fit, a level outside (0, 1),
     or a shear rate that is not a positive, finite number.
@@ -431,7 +433,7 @@ def viscosity_band(fit, shear_rate, level: float = LEVEL, *, samples: int = BAND
         raise ParameterError(
             f"shear_rate = {float(flat[bad][0]):g} is not a positive, finite number; give shear rates in 1/s."
         )
-    draws = parameter_draws(fit, samples, seed)
+    draws = draws if draws is not None else parameter_draws(fit, samples, seed)
     central = fit.viscosity(flat)
     low, high = interval_from(central, _viscosities(draws, draws.draws, flat),
                               _viscosities(draws, draws.ridge, flat) if draws.ridge.shape[0]

@@ -12,6 +12,14 @@ their declared bounds.  The main fit runs through lmfit (trust-region
 reflective ``least_squares``); the many small constrained refits of the
 profile likelihood call :func:`scipy.optimize.least_squares` directly on the
 same residual function, which avoids lmfit's per-call overhead.
+
+Infeasible trial points get the same huge residual as a stress that is not
+a positive finite number, so the optimiser turns away from them, whatever
+the model: values that break the declaration's joint ``constraint`` (e.g.
+eta_inf > eta0), and flow curves that fall anywhere over the measured range
+(checked on the measured shear rates and a grid of 64 log-spaced rates
+between the lowest and the highest; see the bound rule in
+:mod:`rheofit.models.catalogue`).
 """
 
 from __future__ import annotations
@@ -27,6 +35,10 @@ from rheofit.models import ViscosityModel
 #: residual given to the optimiser where the model stress is not a positive
 #: finite number (a huge relative error, e^50, that steers it away)
 _BAD_RESIDUAL = 50.0
+
+#: log-spaced rates between the lowest and highest measured on which a trial
+#: flow curve must not fall (with the measured rates themselves)
+_MONOTONE_GRID = 64
 
 #: below this condition number of the scaled normal matrix the covariance is
 #: trusted; above, the parameters are not separately identifiable
@@ -100,13 +112,20 @@ class LogStressProblem:
         self.n_params = len(self.parametrisation.names)
         self.lower = np.array(self.parametrisation.lower)
         self.upper = np.array(self.parametrisation.upper)
+        grid = np.geomspace(self.shear_rate.min(), self.shear_rate.max(), _MONOTONE_GRID)
+        self._rates = np.unique(np.concatenate([self.shear_rate, grid]))
+        self._data_at = np.searchsorted(self._rates, self.shear_rate)
 
     def residual(self, x) -> np.ndarray:
-        """ln tau_model - ln tau_data at internal vector x [-]."""
+        """ln tau_model - ln tau_data at internal vector x [-]; huge where x is infeasible."""
         values = self.parametrisation.natural(x)
+        if self.declaration.violation(values) is not None:
+            return np.full(self.n_points, _BAD_RESIDUAL)
         with np.errstate(all="ignore"):
-            model = self.declaration.stress_function(self.shear_rate, **values)
-            r = np.log(model) - self.log_stress
+            model = self.declaration.stress_function(self._rates, **values)
+            if np.any(np.diff(model) < 0):  # the flow curve falls inside the data
+                return np.full(self.n_points, _BAD_RESIDUAL)
+            r = np.log(model[self._data_at]) - self.log_stress
         return np.where(np.isfinite(r), r, _BAD_RESIDUAL)
 
     def rss(self, x) -> float:

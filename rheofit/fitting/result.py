@@ -19,19 +19,14 @@ import numpy as np
 
 from rheofit.curve import Flag
 from rheofit.errors import FitError
+from rheofit.fitting.statistics import CORRELATION_SHOWN_ABOVE, correlated_pairs, correlation_matrix
 from rheofit.fitting.text import text_report
 from rheofit.fluid import Fluid
+from rheofit.markup import join, key_values, table, tag
 from rheofit.models import ViscosityModel, get_model
+from rheofit.output import finite_or_none, json_safe
 
 SCHEMA = "rheofit.fit/1"
-
-
-def _num(value) -> float | None:
-    """A JSON-safe float: None for None, nan and +/-inf."""
-    if value is None:
-        return None
-    value = float(value)
-    return value if math.isfinite(value) else None
 
 
 @dataclass(frozen=True)
@@ -69,10 +64,10 @@ class ParameterEstimate:
 
     def to_dict(self) -> dict:
         return {
-            "value": _num(self.value),
+            "value": finite_or_none(self.value),
             "unit": self.unit,
-            "stderr": _num(self.stderr),
-            "ci95": [_num(self.ci95[0]), _num(self.ci95[1])],
+            "stderr": finite_or_none(self.stderr),
+            "ci95": [finite_or_none(self.ci95[0]), finite_or_none(self.ci95[1])],
             "method": self.method,
             "resolved": bool(self.resolved),
             "note": self.note,
@@ -81,8 +76,8 @@ class ParameterEstimate:
     @classmethod
     def from_dict(cls, name: str, unit: str, d: dict) -> "ParameterEstimate":
         low, high = (list(d.get("ci95") or [None, None]) + [None, None])[:2]
-        return cls(name, d.get("unit", unit), float(d["value"]), _num(d.get("stderr")),
-                   (_num(low), _num(high)), str(d.get("method", "")),
+        return cls(name, d.get("unit", unit), float(d["value"]), finite_or_none(d.get("stderr")),
+                   (finite_or_none(low), finite_or_none(high)), str(d.get("method", "")),
                    bool(d.get("resolved", low is not None and high is not None)),
                    str(d.get("note", "")))
 
@@ -114,12 +109,22 @@ class Covariance:
         return {n: (np.exp(x[..., i]) if lg else x[..., i])
                 for i, (n, lg) in enumerate(zip(self.names, self.logged))}
 
+    def correlation(self) -> np.ndarray | None:
+        """Correlation matrix of x [-] (None without a covariance).
+
+        It is also, to first order, the correlation of the SI values: each
+        SI value is an increasing function of its own coordinate alone
+        (v = exp(x) or v = x), so the delta method scales row and column i
+        by dv_i/dx_i > 0, which leaves every r_ij unchanged.
+        """
+        return None if self.matrix is None else correlation_matrix(self.matrix)
+
     def to_dict(self) -> dict:
         matrix = None
         if self.matrix is not None:
-            matrix = [[_num(v) for v in row] for row in np.asarray(self.matrix)]
+            matrix = [[finite_or_none(v) for v in row] for row in np.asarray(self.matrix)]
         return {"names": list(self.names), "logged": [bool(v) for v in self.logged],
-                "center": [_num(v) for v in self.center], "matrix": matrix}
+                "center": [finite_or_none(v) for v in self.center], "matrix": matrix}
 
     @classmethod
     def from_dict(cls, d: dict) -> "Covariance":
@@ -183,6 +188,19 @@ class FitResult:
         """The flags with a given code."""
         return tuple(f for f in self.flags if f.code == code)
 
+    def correlations(self, above: float = CORRELATION_SHOWN_ABOVE):
+        """Parameter pairs ``(a, b, r)`` with |r| > ``above``, largest first; None without a covariance.
+
+        r is the correlation of the estimates from the covariance at the
+        optimum (see :meth:`Covariance.correlation`: the same in the internal
+        and the SI parametrisation, to first order).  A correlation near +/-1
+        means the data fix a combination of the two rather than each one.
+        """
+        matrix = self.covariance.correlation()
+        if matrix is None:
+            return None
+        return correlated_pairs(self.covariance.names, matrix, above)
+
     # --- JSON -----------------------------------------------------------------
 
     def to_dict(self) -> dict:
@@ -197,20 +215,20 @@ class FitResult:
             "name": self.name,
             "source": self.source,
             "params": {k: p.to_dict() for k, p in self.params.items()},
-            "aic": _num(self.aic),
-            "aicc": _num(self.aicc),
-            "bic": _num(self.bic),
-            "rss_log": _num(self.rss_log),
-            "rms_log_residual": _num(self.rms_log_residual),
-            "r_squared_log": _num(self.r_squared_log),
-            "shear_rate_range": ([_num(v) for v in self.shear_rate_range]
+            "aic": finite_or_none(self.aic),
+            "aicc": finite_or_none(self.aicc),
+            "bic": finite_or_none(self.bic),
+            "rss_log": finite_or_none(self.rss_log),
+            "rms_log_residual": finite_or_none(self.rms_log_residual),
+            "r_squared_log": finite_or_none(self.r_squared_log),
+            "shear_rate_range": ([finite_or_none(v) for v in self.shear_rate_range]
                                  if self.shear_rate_range else None),
             "n_points": int(self.n_points),
             "n_params": int(self.n_params),
             "flags": [_flag_dict(f) for f in self.flags],
             "covariance": self.covariance.to_dict(),
-            "shear_rate": [_num(v) for v in self.shear_rate],
-            "residuals": [_num(v) for v in self.residuals],
+            "shear_rate": [finite_or_none(v) for v in self.shear_rate],
+            "residuals": [finite_or_none(v) for v in self.residuals],
         }
 
     @classmethod
@@ -257,24 +275,43 @@ class FitResult:
         return (f"FitResult(model={self.model!r}, name={self.name!r}, {values}, "
                 f"aicc={self.aicc:.4g}, flags={[f.code for f in self.flags]})")
 
+    def _repr_html_(self) -> str:
+        """A compact HTML table for notebooks (every user string escaped)."""
+        return _html(self)
 
-def _json_safe(value):
-    """Numbers, strings, lists and dicts made JSON-safe (numpy scalars unwrapped)."""
-    if isinstance(value, (bool, np.bool_)):
-        return bool(value)
-    if isinstance(value, (int, np.integer)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        return _num(value)
-    if isinstance(value, dict):
-        return {str(k): _json_safe(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple, np.ndarray)):
-        return [_json_safe(v) for v in value]
-    return value if value is None or isinstance(value, str) else str(value)
+
+def _html(fit: FitResult) -> str:
+    """The parameters with their 95 % intervals, the goodness of fit and the flags."""
+    head = f"{fit.declaration.title} fit" + (f" of {fit.name}" if fit.name else "")
+    rows = [[p.name, f"{p.value:.4g}", p.unit, p.interval_text(), "yes" if p.resolved else "no", p.note]
+            for p in fit.params.values()]
+    methods = ", ".join(sorted({p.method for p in fit.params.values()}))
+    facts = [("AICc", f"{fit.aicc:.4g}"), ("BIC", f"{fit.bic:.4g}"),
+             ("rms of the log residuals", f"{fit.rms_log_residual:.3g}"), ("points", str(fit.n_points))]
+    if fit.shear_rate_range:
+        facts.append(("shear rate [1/s]", "{:.3g} to {:.3g}".format(*fit.shear_rate_range)))
+    flags = table(["flag", "message"], [[f.code, f.message] for f in fit.flags]) if fit.flags else ""
+    return join(tag("p", tag("strong", head)),
+                table(["parameter", "value", "unit", "95 % interval", "resolved", "note"], rows,
+                      caption=f"95 % intervals: {methods}"),
+                _html_correlations(fit), key_values(facts), flags)
+
+
+def _html_correlations(fit: FitResult) -> str:
+    """The pairs of estimates with |r| above the reports' threshold ("" for one parameter)."""
+    if fit.n_params < 2:
+        return ""
+    pairs = fit.correlations()
+    caption = f"correlations of the estimates with |r| > {CORRELATION_SHOWN_ABOVE:g}"
+    if pairs is None:
+        return tag("p", caption + ": not available (the fit gave no covariance)")
+    if not pairs:
+        return tag("p", caption + ": none")
+    return table(["parameters", "r"], [[f"{a}, {b}", f"{r:+.3f}"] for a, b, r in pairs], caption=caption)
 
 
 def _flag_dict(flag: Flag) -> dict:
-    return {"code": flag.code, "message": flag.message, "data": _json_safe(dict(flag.data))}
+    return {"code": flag.code, "message": flag.message, "data": json_safe(dict(flag.data))}
 
 
 def _float(value) -> float:

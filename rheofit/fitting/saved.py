@@ -5,7 +5,7 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from rheofit.errors import InputFileError, ModelNameError
+from rheofit.errors import InputFileError, ModelNameError, spelled
 
 KIND = "rheofit-fits"
 VERSION = 1
@@ -64,7 +64,8 @@ def _pick_curve(path: Path, curves: list, curve) -> dict:
         return curves[0]
     if curve is None:
         raise InputFileError(
-            f"Saved fit '{path}' holds {len(curves)} curves ({', '.join(names)}); pick one with --curve N."
+            f"Saved fit '{path}' holds {len(curves)} curves ({', '.join(names)}); pick one with "
+            f"{spelled('curve=N', '--curve N')}."
         )
     text = str(curve).strip()
     if text.isdigit() and 1 <= int(text) <= len(curves):

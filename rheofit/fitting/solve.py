@@ -43,7 +43,8 @@ from rheofit.curve import Flag
 from rheofit.errors import FitError, ParameterError, choice_message
 from rheofit.fitting.problem import LogStressProblem
 from rheofit.fitting.result import Covariance, FitResult, ParameterEstimate
-from rheofit.fitting.statistics import floored_rss, information_criteria, profile_threshold, runs_test
+from rheofit.fitting.statistics import (akaike_weights, floored_rss, information_criteria,
+                                        profile_threshold, runs_test)
 from rheofit.fluid import Fluid
 from rheofit.models import MODELS, ViscosityModel, get_model
 
@@ -239,7 +240,53 @@ def _open_reason(name: str, side: str, meaning: str) -> str:
     return OPEN_END_REASONS.get((name, side), default)
 
 
-def _estimate(problem, j, x, se, pair, method) -> ParameterEstimate:
+def _held_side(problem, j, x, step) -> str | None:
+    """"lower" or "upper" when parameter j sits on that bound at the optimum x, else None."""
+    tol = 1e-3 * step if math.isfinite(step) and step > 0 else 1e-9
+    for side, bound in (("lower", problem.lower[j]), ("upper", problem.upper[j])):
+        if abs(x[j] - bound) <= tol:
+            return side
+    return None
+
+
+def _at_bound_words(declaration, name: str, side: str) -> str:
+    """'m is at its upper bound 2' (the bound with its unit)."""
+    return f"{name} is at its {side} bound {declaration.parameter(name).bound_text(side)}"
+
+
+def _held_by(end, held: dict[str, str]) -> str:
+    """The parameter, held at a bound at the optimum, that alone closes this end ('' if none)."""
+    if end.status.removeprefix("wald_") == "open_limit" and end.limited_by in held:
+        return end.limited_by
+    return ""
+
+
+def _end_note(declaration, spec, side, end, held, method) -> list[str]:
+    status = end.status.removeprefix("wald_")
+    notes = []
+    if end.status.startswith("wald_") and method != "wald":
+        notes.append(f"the {side} end of the profile could not be computed; "
+                     "the Wald interval is used there")
+    if _held_by(end, held):
+        other = end.limited_by
+        notes.append(f"{side} 95 % bound open: {_at_bound_words(declaration, other, held[other])}, "
+                     "and only that bound closes the profile here")
+    elif status == "open_bound":
+        own = held.get(spec.name) == side
+        reason = (f"it is at its {side} bound {spec.bound_text(side)}" if own and
+                  (spec.name, side) not in OPEN_END_REASONS else
+                  _open_reason(spec.name, side, spec.meaning))
+        notes.append(f"{side} 95 % bound open: {reason}")
+    elif status == "open_limit":
+        notes.append(f"{side} 95 % bound open: {_open_reason(spec.name, side, spec.meaning)} "
+                     f"(the profile only closes where {end.limited_by} reaches the edge of "
+                     "its allowed range)")
+    elif status == "failed":
+        notes.append(f"{side} 95 % bound unknown: the interval could not be computed")
+    return notes
+
+
+def _estimate(problem, j, x, se, pair, method, held) -> ParameterEstimate:
     par = problem.parametrisation
     spec = problem.declaration.parameters[j]
     logged = par.logged[j]
@@ -250,18 +297,7 @@ def _estimate(problem, j, x, se, pair, method) -> ParameterEstimate:
     used_wald = method == "wald" or any(e.status.startswith("wald_") for e in pair)
     notes = []
     for side, end in zip(("lower", "upper"), pair):
-        status = end.status.removeprefix("wald_")
-        if end.status.startswith("wald_") and method != "wald":
-            notes.append(f"the {side} end of the profile could not be computed; "
-                         "the Wald interval is used there")
-        if status == "open_bound":
-            notes.append(f"{side} 95 % bound open: {_open_reason(spec.name, side, spec.meaning)}")
-        elif status == "open_limit":
-            notes.append(f"{side} 95 % bound open: {_open_reason(spec.name, side, spec.meaning)} "
-                         f"(the profile only closes where {end.limited_by} reaches the edge of "
-                         "its allowed range)")
-        elif status == "failed":
-            notes.append(f"{side} 95 % bound unknown: the interval could not be computed")
+        notes += _end_note(problem.declaration, spec, side, end, held, method)
     return ParameterEstimate(
         spec.name, spec.unit, value, stderr, ci,
         intervals.WALD if used_wald else intervals.PROFILE,
@@ -269,30 +305,43 @@ def _estimate(problem, j, x, se, pair, method) -> ParameterEstimate:
     )
 
 
-def _unresolved_flag(est: ParameterEstimate, problem, j) -> Flag | None:
+def _unresolved_flag(est: ParameterEstimate, problem, j, pair, held) -> Flag | None:
+    """Why a parameter is not resolved; a bound that causes it is named first."""
     if est.resolved:
         return None
-    spec = problem.declaration.parameters[j]
+    declaration = problem.declaration
+    spec = declaration.parameters[j]
     open_sides = [s for s, v in zip(("lower", "upper"), est.ci95) if v is None]
-    reasons = [_open_reason(spec.name, s, spec.meaning) for s in open_sides]
     which = "both 95 % bounds are" if len(open_sides) == 2 else f"the {open_sides[0]} 95 % bound is"
+    data = {"parameter": spec.name, "open": open_sides, "value": est.value}
+    holders = sorted({_held_by(pair[("lower", "upper").index(s)], held) for s in open_sides} - {""})
+    if holders:
+        bounds = " and ".join(_at_bound_words(declaration, h, held[h]) for h in holders)
+        return Flag("unresolved",
+                    f"{spec.name} is not resolved because {bounds}: its profile closes only "
+                    f"against that bound, not on the data ({which} open).",
+                    {**data, "cause": "bound", "held_by": holders})
+    reasons = []
+    for side in open_sides:
+        own = held.get(spec.name) == side
+        reasons.append(f"it is at its {side} bound {spec.bound_text(side)}"
+                       + (f"; {_open_reason(spec.name, side, spec.meaning)}"
+                          if (spec.name, side) in OPEN_END_REASONS else "")
+                       if own else _open_reason(spec.name, side, spec.meaning))
     why = reasons[0] if len(set(reasons)) == 1 else "; ".join(reasons)
     return Flag("unresolved",
-                f"{spec.name} is not resolved by the data: {why} ({which} open).",
-                {"parameter": spec.name, "open": open_sides, "value": est.value})
+                f"{spec.name} is not resolved by the data: {why} ({which} open).", data)
 
 
-def _bound_flag(problem, j, x, step) -> Flag | None:
+def _bound_flag(problem, j, side: str | None) -> Flag | None:
+    if side is None:
+        return None
     spec = problem.declaration.parameters[j]
-    tol = 1e-3 * step if math.isfinite(step) and step > 0 else 1e-9
-    for side, bound, natural in (("lower", problem.lower[j], spec.lower),
-                                 ("upper", problem.upper[j], spec.upper)):
-        if abs(x[j] - bound) <= tol:
-            return Flag("at_bound",
-                        f"{spec.name} sits at its {side} bound ({natural:g} {spec.unit}): the "
-                        "data push it there, so read it as a limit, not a measurement.",
-                        {"parameter": spec.name, "bound": float(natural), "side": side})
-    return None
+    natural = spec.lower if side == "lower" else spec.upper
+    return Flag("at_bound",
+                f"{_at_bound_words(problem.declaration, spec.name, side)}: the data push it there, "
+                "so read it as a limit, not a measurement.",
+                {"parameter": spec.name, "bound": float(natural), "side": side})
 
 
 def _pattern_flag(problem, residuals, title) -> Flag | None:
@@ -360,10 +409,13 @@ def _assemble(problem, curve, x, rss, cov, ends, steps, method) -> FitResult:
     ses = _stderrs(cov, k)
     params = {}
     fit_flags = []
+    sides = [_held_side(problem, j, x, steps[j]) for j in range(k)]
+    held = {spec.name: side for spec, side in zip(declaration.parameters, sides) if side}
     for j, spec in enumerate(declaration.parameters):
-        est = _estimate(problem, j, x, ses[j], ends[j], method)
+        est = _estimate(problem, j, x, ses[j], ends[j], method, held)
         params[spec.name] = est
-        fit_flags += [_bound_flag(problem, j, x, steps[j]), _unresolved_flag(est, problem, j)]
+        fit_flags += [_bound_flag(problem, j, sides[j]),
+                      _unresolved_flag(est, problem, j, ends[j], held)]
     residuals = problem.residual(x)
     fit_flags += [_pattern_flag(problem, residuals, declaration.title), _few_points_flag(problem)]
     flags = tuple(curve.flags) + tuple(f for f in fit_flags if f is not None)
@@ -396,16 +448,30 @@ class FitRanking(list):
         self.skipped: tuple[tuple[str, str], ...] = tuple(skipped)
 
     def akaike_weights(self) -> list[float]:
-        """w_i = exp(-D_i/2) / sum_j exp(-D_j/2) with D_i = AICc_i - min AICc.
+        """Akaike weights of the results, best first (see
+        :func:`rheofit.fitting.statistics.akaike_weights`)."""
+        return akaike_weights([r.aicc for r in self])
 
-        Burnham & Anderson (2002), sec. 2.9 (from memory).
+    def to_frame(self):
+        """A pandas DataFrame, one row per fit, best first.
+
+        Columns: ``model``, ``title``, ``n_params``, ``aicc``, ``delta_aicc``
+        (to the best), ``akaike_weight``, ``aic``, ``bic``,
+        ``rms_log_residual``, ``r_squared_log``, ``resolved`` (every interval
+        closed) and ``flags`` (their codes, comma-separated).  The models
+        not fitted are in :attr:`skipped`.
         """
-        aicc = np.array([r.aicc for r in self], dtype=float)
-        if not aicc.size or not np.isfinite(aicc).any():
-            return [math.nan] * len(aicc)
-        rel = np.exp(-0.5 * (aicc - np.nanmin(aicc[np.isfinite(aicc)])))
-        rel[~np.isfinite(aicc)] = 0.0
-        return (rel / rel.sum()).tolist()
+        import pandas as pd
+
+        best = min((r.aicc for r in self if math.isfinite(r.aicc)), default=math.nan)
+        rows = [{"model": r.model, "title": r.declaration.title, "n_params": r.n_params, "aicc": r.aicc,
+                 "delta_aicc": r.aicc - best, "akaike_weight": weight, "aic": r.aic, "bic": r.bic,
+                 "rms_log_residual": r.rms_log_residual, "r_squared_log": r.r_squared_log,
+                 "resolved": r.resolved, "flags": ", ".join(f.code for f in r.flags)}
+                for r, weight in zip(self, self.akaike_weights())]
+        return pd.DataFrame(rows, columns=["model", "title", "n_params", "aicc", "delta_aicc", "akaike_weight",
+                                           "aic", "bic", "rms_log_residual", "r_squared_log", "resolved",
+                                           "flags"])
 
 
 def fit_all(curve, models=None, *, interval_method: str = "auto") -> FitRanking:

@@ -1,5 +1,6 @@
 """Statistics of a least-squares fit in log space: information criteria,
-the profile-likelihood threshold and the runs test on residual signs.
+Akaike weights, the profile-likelihood threshold, the runs test on residual
+signs and parameter correlations.
 
 All functions take plain numbers; nothing here knows about models.
 """
@@ -67,6 +68,67 @@ def information_criteria(rss: float, n_points: int, n_params: int) -> dict[str, 
     aicc = aic + 2 * k * (k + 1) / dof if dof > 0 else math.inf
     bic = fit_term + k * math.log(n)
     return {"aic": aic, "aicc": aicc, "bic": bic}
+
+
+def akaike_weights(aicc) -> list[float]:
+    """Akaike weights of models fitted to the same data [-], in the order given.
+
+    With D_i = AICc_i - min_j AICc_j::
+
+        w_i = exp(-D_i / 2) / sum_j exp(-D_j / 2)
+
+    A model with a non-finite AICc gets weight 0; all weights are nan when
+    no AICc is finite.  Burnham, K.P. & Anderson, D.R. (2002) Model
+    Selection and Multimodel Inference, 2nd ed., Springer, sec. 2.9 (from
+    memory).
+
+    >>> [round(w, 4) for w in akaike_weights([10.0, 12.0, float("inf")])]
+    [0.7311, 0.2689, 0.0]
+    """
+    aicc = np.asarray(aicc, dtype=float).ravel()
+    finite = np.isfinite(aicc)
+    if not finite.any():
+        return [math.nan] * aicc.size
+    rel = np.where(finite, np.exp(-0.5 * (np.where(finite, aicc, 0.0) - aicc[finite].min())), 0.0)
+    return (rel / rel.sum()).tolist()
+
+
+#: correlations at or below this size [-] are left out of the reports (the
+#: default ``min_correl=0.1`` of lmfit's ``fit_report``, lmfit documentation)
+CORRELATION_SHOWN_ABOVE = 0.1
+
+
+def correlation_matrix(covariance) -> np.ndarray:
+    """Correlation matrix of a covariance matrix [-]::
+
+        r_ij = C_ij / sqrt(C_ii C_jj)
+
+    A parameter whose variance is not positive and finite has nan in its row
+    and column.
+
+    >>> correlation_matrix([[4.0, -2.0], [-2.0, 4.0]]).tolist()
+    [[1.0, -0.5], [-0.5, 1.0]]
+    """
+    c = np.asarray(covariance, dtype=float)
+    variance = np.diag(c)
+    usable = np.isfinite(variance) & (variance > 0)
+    sd = np.where(usable, np.sqrt(np.where(usable, variance, 1.0)), np.nan)
+    return c / np.outer(sd, sd)
+
+
+def correlated_pairs(names, correlation, above: float = CORRELATION_SHOWN_ABOVE):
+    """``[(name_i, name_j, r_ij)]`` for i < j with |r_ij| > ``above``, largest |r| first.
+
+    Pairs whose correlation is not finite are left out.
+
+    >>> correlated_pairs(("a", "b", "c"), [[1, 0.05, -0.9], [0.05, 1, 0.3], [-0.9, 0.3, 1]])
+    [('a', 'c', -0.9), ('b', 'c', 0.3)]
+    """
+    r = np.asarray(correlation, dtype=float)
+    pairs = [(names[i], names[j], float(r[i, j]))
+             for i in range(len(names)) for j in range(i + 1, len(names))
+             if math.isfinite(r[i, j]) and abs(r[i, j]) > above]
+    return sorted(pairs, key=lambda pair: -abs(pair[2]))
 
 
 def profile_threshold(n_points: int, n_params: int, level: float = 0.95) -> float:

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import math
 
+from rheofit.fitting.statistics import CORRELATION_SHOWN_ABOVE
+
 
 def _g(value, fmt: str = ".4g") -> str:
     if value is None or (isinstance(value, float) and not math.isfinite(value)):
@@ -62,6 +64,22 @@ def _goodness(result) -> list[str]:
     return lines
 
 
+def _correlations(result) -> list[str]:
+    """Pairs of estimates with |r| above the threshold, from the covariance at the optimum."""
+    if result.n_params < 2:
+        return []
+    lines = _heading(f"Correlations of the estimates (|r| > {CORRELATION_SHOWN_ABOVE:g})")
+    pairs = result.correlations()
+    if pairs is None:
+        return lines + ["  not available: the fit gave no covariance"]
+    if not pairs:
+        return lines + ["  none"]
+    width = max(len(f"{a}, {b}") for a, b, _ in pairs)
+    lines += [f"  {f'{a}, {b}':<{width}}  {r:+.3f}" for a, b, r in pairs]
+    return lines + ["  (first order, from the covariance at the optimum; the same for the SI values",
+                    "  and for the log coordinates the fit uses inside)"]
+
+
 def _flags(result) -> list[str]:
     lines = _heading("Flags")
     if not result.flags:
@@ -70,6 +88,8 @@ def _flags(result) -> list[str]:
 
 
 def text_report(result) -> str:
-    """Sections: header (model, equation, data), parameters, goodness of fit, flags."""
-    parts = [_header(result), _parameter_table(result), _goodness(result), _flags(result)]
+    """Sections: header (model, equation, data), parameters, correlations, goodness of fit, flags."""
+    parts = [_header(result), _parameter_table(result), _correlations(result), _goodness(result),
+             _flags(result)]
+    parts = [part for part in parts if part]
     return "\n\n".join("\n".join(p) for p in parts)

@@ -2,7 +2,8 @@
 
 ``predict(fluid_or_fit, Tube(...) or Slit(...), flow_rate=... or pressure_drop=...)``
 returns a :class:`FlowPrediction`; the engine functions below work on plain
-arrays.  Every output carries :data:`SAFETY_CAUTION`.
+arrays; :mod:`rheofit.flow.curves` holds the operating curve dP(Q) and the
+velocity profile as data.  Every output carries :data:`SAFETY_CAUTION`.
 """
 
 from rheofit.flow.engine import flow_rate, pressure_drop, velocity_profile, wall_shear_rate

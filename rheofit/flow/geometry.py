@@ -15,7 +15,7 @@ Each geometry knows the few numbers the generic flow engine needs:
 * ``half_size`` (R or h), the distance from the centre line to the wall.
 
 Lengths may be given as SI floats [m] or as text with a unit ("0.5 mm"),
-parsed by :func:`rheofit.units.parse_quantity`.
+parsed by :func:`rheofit.units.parse_quantity` (text without a unit is refused).
 
 >>> Tube("0.5 mm", "50 mm").radius
 0.00025
@@ -47,7 +47,7 @@ def _mm(metres: float) -> str:
 
 def _length(owner: str, name: str, value, example: str) -> float:
     """Parse one length and check it is positive and finite [m]."""
-    number = parse_quantity(value, "length")
+    number = parse_quantity(value, "length", f"{owner} {name}")
     if not (math.isfinite(number) and number > 0.0):
         raise GeometryError(
             f"{owner} {name} = {value!r} is not a positive, finite length; "

@@ -4,7 +4,7 @@ The draws and the rule that turns evaluated draws into an interval are those
 of :mod:`rheofit.fitting.draws` (its docstring gives the method and its
 sources); this module solves the flow for every draw, all draws and
 operating points in one vectorised solve (:func:`rheofit.flow.engine.solve_sets`).  Used by
-:func:`rheofit.flow.predict`; :func:`operating_band` serves the figures.
+:func:`rheofit.flow.predict` and :func:`rheofit.flow.curves.operating_curve`.
 
 Units: pressure [Pa], flow rate [m^3/s], wall shear stress [Pa], wall shear rate [1/s].
 """

@@ -18,11 +18,13 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from rheofit.curve import Flag
-from rheofit.errors import GeometryError, ParameterError, UnitError
+from rheofit.errors import GeometryError, ParameterError
 from rheofit.fluid import Fluid, as_fluid
 from rheofit.flow import engine, regime
 from rheofit.flow.geometry import check_geometry
-from rheofit.units import parse_quantity
+from rheofit.markup import join, key_values, table, tag
+from rheofit.output import json_safe
+from rheofit.units import parse_quantity, parse_tolerance
 
 #: the caution every flow output ends with (the CLI and reports reuse it)
 SAFETY_CAUTION = (
@@ -139,18 +141,18 @@ class FlowPrediction:
         """Plain JSON-able dict: floats, lists (NaN as None), the profile as two lists."""
         out = {"geometry": self.geometry.to_dict(), "fluid": self.fluid.to_dict()}
         for name in self._ARRAYS:
-            out[name] = _plain(getattr(self, name))
+            out[name] = json_safe(getattr(self, name))
         for name in ("threshold_pressure_drop", "laminar_criterion", "newtonian_reference",
                      "zero_shear_viscosity", "density", "density_is_default", "tolerance"):
-            out[name] = _plain(getattr(self, name))
+            out[name] = json_safe(getattr(self, name))
         for name in self._INTERVALS:
             value = getattr(self, name)
-            out[name] = None if value is None else [_plain(value[0]), _plain(value[1])]
+            out[name] = None if value is None else [json_safe(value[0]), json_safe(value[1])]
         out["uncertainty_method"] = self.uncertainty_method
         out["uncertainty_samples"] = self.uncertainty_samples
         out["profile"] = {
-            "position": _plain(self.profile["position"].to_numpy()),
-            "velocity": _plain(self.profile["velocity"].to_numpy()),
+            "position": json_safe(self.profile["position"].to_numpy()),
+            "velocity": json_safe(self.profile["velocity"].to_numpy()),
         }
         out["flags"] = [flag.to_dict() for flag in self.flags]
         out["caution"] = SAFETY_CAUTION
@@ -158,6 +160,10 @@ class FlowPrediction:
 
     def __str__(self) -> str:
         return self.text()
+
+    def _repr_html_(self) -> str:
+        """A compact HTML table for notebooks (every user string escaped)."""
+        return _html(self)
 
     def text(self) -> str:
         """Readable report: operating point(s), regime, Newtonian comparison, flags, caution."""
@@ -180,19 +186,8 @@ class FlowPrediction:
         return "\n".join(lines)
 
 
-def _plain(value):
-    """numpy / float values -> JSON-able Python values (NaN -> None)."""
-    if value is None or isinstance(value, (str, bool)):
-        return value
-    if isinstance(value, np.ndarray):
-        return [_plain(v) for v in value.tolist()]
-    if isinstance(value, (np.bool_,)):
-        return bool(value)
-    number = float(value)
-    return number if math.isfinite(number) else None
-
-
-def _scalar_lines(p: FlowPrediction) -> list[str]:
+def _quantities(p: FlowPrediction) -> list[tuple[str, object, str]]:
+    """(name, value, unit) of a prediction, in the order shown."""
     rows = [
         ("pressure drop", p.pressure_drop, "Pa"),
         ("flow rate", p.flow_rate, "m^3/s"),
@@ -212,18 +207,29 @@ def _scalar_lines(p: FlowPrediction) -> list[str]:
     if p.zero_shear_viscosity is not None:
         rows += [("zero-shear pressure drop", p.zero_shear_pressure_drop, "Pa"),
                  ("pressure drop / zero-shear", p.zero_shear_ratio, "-")]
-    lines = [f"  {name:<27}{value:.4g} {unit}" for name, value, unit in rows]
-    lines.append(f"  {'laminar':<27}{'yes' if p.laminar else 'no'}")
+    return rows
+
+
+def _interval_rows(p: FlowPrediction) -> list[tuple[str, tuple, str]]:
+    """(name, (low, high), unit) of the 95 % intervals the prediction carries."""
+    found = []
     for name, unit in (("pressure_drop", "Pa"), ("flow_rate", "m^3/s"), ("wall_shear_stress", "Pa"),
                        ("wall_shear_rate", "1/s")):
         ci = getattr(p, name + "_ci95")
         if ci is not None:
-            label = name.replace("_", " ") + ", 95 %"
-            lines.append(f"  {label:<27}{ci[0]:.4g} to {ci[1]:.4g} {unit}")
+            found.append((name.replace("_", " ") + ", 95 %", ci, unit))
+    return found
+
+
+def _scalar_lines(p: FlowPrediction) -> list[str]:
+    lines = [f"  {name:<27}{value:.4g} {unit}" for name, value, unit in _quantities(p)]
+    lines.append(f"  {'laminar':<27}{'yes' if p.laminar else 'no'}")
+    lines += [f"  {label:<27}{ci[0]:.4g} to {ci[1]:.4g} {unit}" for label, ci, unit in _interval_rows(p)]
     return lines
 
 
-def _table_lines(p: FlowPrediction, shown: int = 12) -> list[str]:
+def _columns(p: FlowPrediction) -> list[tuple[str, object]]:
+    """(heading, values) of the table of an array prediction."""
     columns = [("dP [Pa]", p.pressure_drop), ("Q [m^3/s]", p.flow_rate),
                ("tau_w [Pa]", p.wall_shear_stress), ("gd_w [1/s]", p.wall_shear_rate),
                ("V [m/s]", p.mean_velocity), ("Re", p.reynolds),
@@ -231,6 +237,11 @@ def _table_lines(p: FlowPrediction, shown: int = 12) -> list[str]:
     for short, ci in (("dP", p.pressure_drop_ci95), ("Q", p.flow_rate_ci95)):
         if ci is not None:
             columns[2:2] = [(f"{short} 2.5%", ci[0]), (f"{short} 97.5%", ci[1])]
+    return columns
+
+
+def _table_lines(p: FlowPrediction, shown: int = 12) -> list[str]:
+    columns = _columns(p)
     head = "  " + "".join(f"{name:>12}" for name, _ in columns) + f"{'laminar':>9}"
     lines = [head]
     flat = [np.ravel(values) for _, values in columns]
@@ -241,6 +252,28 @@ def _table_lines(p: FlowPrediction, shown: int = 12) -> list[str]:
     if p.size > shown:
         lines.append(f"  ... {p.size - shown} more operating points (see to_dict())")
     return lines
+
+
+def _html(p: FlowPrediction, shown: int = 12) -> str:
+    """The prediction as a compact HTML block: quantities (or a table of points), flags, caution."""
+    label = f" '{p.fluid.name}'" if p.fluid.name else ""
+    parts = [tag("p", tag("strong", f"Flow of {p.fluid.model}{label} in a {p.geometry.describe()}"))]
+    if np.ndim(p.pressure_drop) == 0:
+        pairs = [(name, f"{float(value):.4g} {unit}") for name, value, unit in _quantities(p)]
+        pairs.append(("laminar", "yes" if p.laminar else "no"))
+        pairs += [(name, f"{float(ci[0]):.4g} to {float(ci[1]):.4g} {unit}")
+                  for name, ci, unit in _interval_rows(p)]
+        parts.append(key_values(pairs))
+    else:
+        columns = _columns(p)
+        flat = [np.ravel(values) for _, values in columns]
+        rows = [[f"{values[i]:.4g}" for values in flat] for i in range(min(shown, p.size))]
+        more = f"{p.size - shown} more operating points in to_dict()" if p.size > shown else None
+        parts.append(table([name for name, _ in columns], rows, caption=more))
+    if p.flags:
+        parts.append(table(["flag", "message"], [[f.code, f.message] for f in p.flags]))
+    parts.append(tag("p", SAFETY_CAUTION))
+    return join(*parts)
 
 
 def _profile_frame(fluid: Fluid, geometry, wall_shear_stress: float, points: int):
@@ -267,10 +300,7 @@ def operating_input(value, kind: str):
 
 
 def _positive(value, name: str, kind: str, example: str) -> float:
-    try:
-        number = parse_quantity(value, kind) if isinstance(value, str) else value
-    except UnitError as exc:
-        raise UnitError(f"{name}: {exc}") from None
+    number = parse_quantity(value, kind, name) if isinstance(value, str) else value
     try:
         number = float(number)
     except (TypeError, ValueError):
@@ -395,8 +425,9 @@ def predict(fluid_or_fit, geometry, flow_rate=None, pressure_drop=None, density=
         Reference viscosity [Pa*s] of the Newtonian comparison; by default the
         model's viscosity at the apparent wall shear rate (tube 4Q/(pi R^3),
         slit 6Q/(W H^2), with the predicted Q when dP is given).
-    tolerance : float
-        Flag ``newtonian_misleads`` when |dP / dP_Newtonian - 1| > tolerance.
+    tolerance : float or str
+        Flag ``newtonian_misleads`` when |dP / dP_Newtonian - 1| > tolerance
+        (a fraction below 1, or text such as '10 %'; see parse_tolerance).
     profile_points : int
         Points of the velocity profile (centre line to wall).
     method : "auto" or "generic"
@@ -422,7 +453,7 @@ def predict(fluid_or_fit, geometry, flow_rate=None, pressure_drop=None, density=
     require_one_operating_point(flow_rate, pressure_drop)
     is_default = density is None
     density = DEFAULT_DENSITY if is_default else _positive(density, "density", "density", "'1050 kg/m^3'")
-    tolerance = _positive(tolerance, "tolerance", "dimensionless", "0.10")
+    tolerance = parse_tolerance(tolerance)
     if not (isinstance(profile_points, (int, np.integer)) and profile_points >= 2):
         raise ParameterError(f"profile_points = {profile_points!r} must be an integer of at least 2, e.g. 101.")
     if flow_rate is not None:

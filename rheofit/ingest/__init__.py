@@ -18,7 +18,8 @@ What is read
   sample/lot/step column, or per block with its own header.
 * Rows with missing values, and rows with zero or negative shear rate, are
   dropped and flagged; up-and-down sweeps keep both segments
-  (``curve.segment``) and a hysteresis between them is flagged.
+  (``curve.segment``) unless ``segment="up"`` or ``"down"`` picks one, and a
+  hysteresis between them is flagged.
 
 Rows stay in the order measured; :func:`sorted_by_shear_rate` gives the
 sorted view.  Files are opened read-only.  Every problem ends in one
@@ -35,18 +36,17 @@ from pathlib import Path
 import numpy as np
 
 from rheofit.curve import FlowCurve
-from rheofit.errors import InputFileError
+from rheofit.errors import InputFileError, spelled
 from rheofit.ingest import preamble
 from rheofit.ingest.build import Context, Draft, block_drafts
-from rheofit.ingest.columns import assign_roles, make_columns
+from rheofit.ingest.columns import ROLES, assign_roles, make_columns
 from rheofit.ingest.dialect import Dialect, sniff
 from rheofit.ingest.layout import Block, Layout, find_layout, no_table
 from rheofit.ingest.source import read_lines
+from rheofit.ingest.sweep import check_segment, keep_segment
 from rheofit.ingest.table import Cells
 
-__all__ = ["read_flow_curve", "read_flow_curves", "sorted_by_shear_rate"]
-
-_ROLES = ("shear_rate", "viscosity", "stress", "temperature")
+__all__ = ["ROLES", "read_flow_curve", "read_flow_curves", "sorted_by_shear_rate"]
 
 
 def read_flow_curves(
@@ -61,6 +61,7 @@ def read_flow_curves(
     stress_unit=None,
     temperature_unit=None,
     name=None,
+    segment="all",
 ) -> list[FlowCurve]:
     """Every flow curve in a text export, in SI, in the order they appear.
 
@@ -77,6 +78,10 @@ def read_flow_curves(
     name : str, optional
         Sample name; default the file stem.  With several curves each name
         gets the curve's label (``"sweep 25 °C"``).
+    segment : {"all", "up", "down"}
+        Which points of an up-and-down sweep to keep: all of them, those of
+        the segments where the shear rate rises, or those where it falls
+        (flagged ``segment_kept``).
 
     Returns
     -------
@@ -85,10 +90,11 @@ def read_flow_curves(
         the stress tau [Pa] is given), stress [Pa] (tau = eta * gamma_dot when
         only the viscosity is given), temperature [K] or None, flags, metadata.
     """
+    check_segment(segment)
     path = Path(path)
     shown = str(path)
-    columns = dict(zip(_ROLES, (shear_rate_column, viscosity_column, stress_column, temperature_column)))
-    units = dict(zip(_ROLES, (shear_rate_unit, viscosity_unit, stress_unit, temperature_unit)))
+    columns = dict(zip(ROLES, (shear_rate_column, viscosity_column, stress_column, temperature_column)))
+    units = dict(zip(ROLES, (shear_rate_unit, viscosity_unit, stress_unit, temperature_unit)))
     lines, encoding = read_lines(path, shown)
     dialect = sniff(lines)
     if dialect is None:
@@ -98,13 +104,13 @@ def read_flow_curves(
     for number, block in enumerate(layout.blocks, start=1):
         details = {"encoding": encoding, "delimiter": dialect.name, "decimal": dialect.decimal}
         drafts += _block_drafts(lines, layout, block, number, dialect, columns, units, details, shown)
-    return _finish(drafts, name or path.stem, shown)
+    return [keep_segment(curve, segment, shown) for curve in _finish(drafts, name or path.stem, shown)]
 
 
 def read_flow_curve(path, *, curve=None, **overrides) -> FlowCurve:
     """The one flow curve of a file.
 
-    ``overrides`` are the column, unit and name keywords of
+    ``overrides`` are the column, unit, name and segment keywords of
     :func:`read_flow_curves`.  ``curve`` picks one when the file holds
     several: its number counted from 1, or its label (``"25 °C"``,
     ``"lot B"``).  Without it, a file with several curves raises
@@ -116,8 +122,9 @@ def read_flow_curve(path, *, curve=None, **overrides) -> FlowCurve:
         if len(curves) == 1:
             return curves[0]
         raise InputFileError(
-            f"File '{shown}' holds {len(curves)} curves ({_listing(curves)}); pick one with curve=2 "
-            "(number or label; --curve 2 on the command line) or read them all with read_flow_curves()."
+            f"File '{shown}' holds {len(curves)} curves ({_listing(curves)}); pick one with "
+            + spelled("curve=2 (number or label) or read them all with read_flow_curves().",
+                      "--curve 2 (number or label).")
         )
     return _pick(curves, curve, shown)
 
@@ -223,7 +230,7 @@ def _pick(curves: list[FlowCurve], curve, shown: str) -> FlowCurve:
     raise InputFileError(
         f"File '{shown}' has no curve {curve!r}: it holds {len(curves)} curve"
         f"{'s' if len(curves) > 1 else ''} ({_listing(curves)}), numbered from 1; pass one of those "
-        "numbers or labels as curve=."
+        f"numbers or labels as {spelled('curve=', '--curve')}."
     )
 
 

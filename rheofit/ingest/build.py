@@ -14,13 +14,12 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from rheofit.curve import Flag
-from rheofit.errors import InputFileError, UnitError
-from rheofit.ingest.columns import UNIT_KINDS, Column
+from rheofit.errors import InputFileError, UnitError, spelled
+from rheofit.ingest.columns import ROLES, UNIT_KINDS, Column, column_option
 from rheofit.ingest.sweep import describe, hysteresis, segments
 from rheofit.ingest.table import Cells
 from rheofit.units import is_unit_of, to_si
 
-NUMERIC_ROLES = tuple(UNIT_KINDS)
 #: stress and viscosity given together may differ from tau = eta * gamma_dot by this much [-]
 CONSISTENCY_TOLERANCE = 0.02
 #: temperatures further apart than this belong to different curves [K]
@@ -82,7 +81,7 @@ def block_drafts(cells: Cells, roles: dict[str, Column], context: Context) -> li
 def _units(cells: Cells, roles, context: Context) -> tuple[dict[str, str], list[Flag]]:
     """The unit of each numeric column: the caller's, the file's, or SI (flagged)."""
     units, flags = {}, []
-    for role in NUMERIC_ROLES:
+    for role in ROLES:
         column = roles.get(role)
         if column is None:
             continue
@@ -95,11 +94,16 @@ def _units(cells: Cells, roles, context: Context) -> tuple[dict[str, str], list[
         if given and column.unit and _differ(given, column.unit, role):
             flags.append(Flag(
                 "unit_override",
-                f"Column {column.shown} states '{column.unit}', but {role}_unit='{given}' was used as asked.",
+                f"Column {column.shown} states '{column.unit}', but {unit_option(role, given)} was used as asked.",
                 {"role": role, "file_unit": column.unit, "unit": given},
             ))
         units[role] = unit
     return units, flags
+
+
+def unit_option(role: str, unit: str) -> str:
+    """How to name a role's unit: ``viscosity_unit='mPa*s'``, or ``--unit viscosity=mPa*s`` on the CLI."""
+    return spelled(f"{role}_unit='{unit}'", f"--unit {role}={unit}")
 
 
 def _assumed(role: str, cells: Cells, column: Column) -> str:
@@ -113,14 +117,14 @@ def _assumed_flag(role: str, column: Column, unit: str) -> Flag:
     if role == "viscosity":
         message = (
             f"Column {column.shown} gives no unit, so the viscosity was read in Pa·s (SI); if the "
-            "file is in mPa·s or cP every viscosity is 1000 times too high: pass viscosity_unit='mPa*s' "
-            "(command line: --unit viscosity=mPa*s) or the unit of the file."
+            f"file is in mPa·s or cP every viscosity is 1000 times too high: pass {unit_option(role, 'mPa*s')} "
+            "or the unit of the file."
         )
     else:
         shown = {"degC": "°C", "K": "K"}.get(unit, unit)
         message = (
             f"Column {column.shown} gives no unit, so the {_QUANTITY[role]} was read in {shown}; "
-            f"pass {role}_unit= (command line: --unit {role}=UNIT) if the file uses another unit."
+            f"pass {unit_option(role, 'UNIT')} if the file uses another unit."
         )
     return Flag("assumed_unit", message, {"role": role, "column": column.text, "unit": unit})
 
@@ -139,10 +143,10 @@ def _check_unit(unit: str, role: str, column: Column, given, shown: str) -> None
     except UnitError as exc:
         problem = str(exc).rstrip(".")
         problem = problem[0].lower() + problem[1:]
-        where = f"{role}_unit='{given}'" if given else f"column {column.shown}"
+        where = unit_option(role, given) if given else f"column {column.shown}"
         raise UnitError(
             f"File '{shown}', {where}: {problem}; name the right column or unit with "
-            f"{role}_column= or {role}_unit= (command line: --column {role}=NAME or --unit {role}=UNIT)."
+            f"{column_option(role, 'NAME')} or {unit_option(role, 'UNIT')}."
         ) from None
 
 

@@ -16,15 +16,20 @@ import re
 import unicodedata
 from dataclasses import dataclass
 
-from rheofit.errors import InputFileError
+from rheofit.errors import InputFileError, spelled
 from rheofit.ingest.dialect import is_number
 from rheofit.units import is_unit_of
 
-#: the roles whose values are read as numbers, with their unit kind in rheofit.units
-UNIT_KINDS = {"shear_rate": "shear_rate", "viscosity": "viscosity", "stress": "stress", "temperature": "temperature"}
+#: the roles whose values are read as numbers; a caller may name the column or unit of each
+ROLES = ("shear_rate", "viscosity", "stress", "temperature")
+#: each role's unit kind in rheofit.units (the same words)
+UNIT_KINDS = {role: role for role in ROLES}
 FLOW_ROLES = ("shear_rate", "viscosity", "stress")
-#: keyword that names each role's column in read_flow_curve
-OVERRIDES = {role: f"{role}_column" for role in UNIT_KINDS}
+
+
+def column_option(role: str, value) -> str:
+    """How to name a role's column: ``viscosity_column=2``, or ``--column viscosity=2`` on the CLI."""
+    return spelled(f"{role}_column={value}", f"--column {role}={value}")
 
 
 @dataclass(frozen=True)
@@ -246,7 +251,7 @@ def _find(columns: list[Column], wanted, role: str, shown: str) -> Column:
         if 1 <= wanted <= len(columns):
             return columns[wanted - 1]
         raise InputFileError(
-            f"File '{shown}' has {len(columns)} columns, so {OVERRIDES[role]}={wanted} does not exist; "
+            f"File '{shown}' has {len(columns)} columns, so {column_option(role, wanted)} does not exist; "
             f"columns are counted from 1 ({_listing(columns)})."
         )
     key = str(wanted).strip().lower()
@@ -254,7 +259,7 @@ def _find(columns: list[Column], wanted, role: str, shown: str) -> Column:
         if key in (column.text.strip().lower(), column.name.strip().lower()):
             return column
     raise InputFileError(
-        f"File '{shown}' has no column named '{wanted}' ({OVERRIDES[role]}); "
+        f"File '{shown}' has no column named '{wanted}' (asked for with {column_option(role, wanted)}); "
         f"its columns are {_listing(columns)}."
     )
 
@@ -266,11 +271,11 @@ def _best(role: str, scored: list[tuple[int, Column]], shown: str) -> Column:
     if len(best) > 1 and kind:
         fitting = [c for c in best if c.unit and is_unit_of(c.unit, kind)]
         best = fitting if len(fitting) == 1 else best
-    if len(best) > 1 and role in OVERRIDES:
+    if len(best) > 1 and role in UNIT_KINDS:
         names = ", ".join(c.shown for c in best[:-1]) + " and " + best[-1].shown
         raise InputFileError(
             f"File '{shown}': columns {names} all look like {role.replace('_', ' ')}; "
-            f"pick one with {OVERRIDES[role]}={best[0].shown}."
+            f"pick one with {column_option(role, best[0].shown)}."
         )
     return best[0]
 
@@ -284,9 +289,12 @@ def _listing(columns: list[Column]) -> str:
 def _unrecognised(columns: list[Column], chosen: dict, shown: str) -> InputFileError:
     missing = "shear rate" if "shear_rate" not in chosen else "viscosity or shear stress"
     return InputFileError(
-        f"File '{shown}' has no recognisable {missing} column among {_listing(columns)}; "
-        "name the columns with shear_rate_column=, viscosity_column=, stress_column= or "
-        "temperature_column= (a header text or a column number from 1), and their units with "
-        "shear_rate_unit=, viscosity_unit=, stress_unit= (command line: --column ROLE=NAME, "
-        "--unit ROLE=UNIT)."
+        f"File '{shown}' has no recognisable {missing} column among {_listing(columns)}"
+        + spelled(
+            "; name the columns with shear_rate_column=, viscosity_column=, stress_column= or "
+            "temperature_column= (a header text or a column number from 1), and their units with "
+            "shear_rate_unit=, viscosity_unit=, stress_unit=.",
+            "; name the columns with --column ROLE=NAME or ROLE=NUMBER (counted from 1) and their "
+            "units with --unit ROLE=UNIT, roles being shear_rate, viscosity, stress, temperature.",
+        )
     )

@@ -10,12 +10,17 @@ importer measures it and flags it.
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 
-from rheofit.curve import Flag
+from rheofit.curve import Flag, FlowCurve
+from rheofit.errors import InputFileError, ParameterError, choice_message, spelled
 
 #: relative viscosity difference between segments above which a hysteresis is flagged [-]
 HYSTERESIS_THRESHOLD = 0.05
+#: which points of a sweep to keep: every point, those of rising or those of falling shear rate
+SEGMENTS = ("all", "up", "down")
 
 
 def segments(shear_rate: np.ndarray) -> np.ndarray:
@@ -78,15 +83,78 @@ def hysteresis(shear_rate, viscosity, segment, lines) -> Flag | None:
     if worst is None or worst[0] <= HYSTERESIS_THRESHOLD:
         return None
     gap, point, a = worst
-    return Flag(
-        "hysteresis",
-        f"Viscosity differs by up to {gap * 100:.0f} % between sweep segments {a} and {a + 1} "
-        f"(at {shear_rate[point]:.3g} 1/s, line {lines[point]}): a hysteresis loop, a sign of "
-        "time-dependent (thixotropic) behaviour or of points taken before steady state; "
-        "fit one segment (curve.segment) or allow more time per point.",
-        {"max_relative_difference": float(gap), "shear_rate": float(shear_rate[point]),
-         "line": int(lines[point]), "segments": [a, a + 1]},
+    data = {"max_relative_difference": float(gap), "shear_rate": float(shear_rate[point]),
+            "line": int(lines[point]), "segments": [a, a + 1]}
+    return Flag("hysteresis", _hysteresis_message(data, "all"), data)
+
+
+def _hysteresis_message(data: dict, kept: str) -> str:
+    a, b = data["segments"]
+    advice = (
+        "fit one segment (" + spelled("segment='up' or 'down'", "--segment up or --segment down")
+        + ") or allow more time per point" if kept == "all" else
+        f"only the {kept} segment was kept, as asked; check that it is at steady state"
     )
+    return (
+        f"Viscosity differs by up to {data['max_relative_difference'] * 100:.0f} % between sweep "
+        f"segments {a} and {b} (at {data['shear_rate']:.3g} 1/s, line {data['line']}): a hysteresis "
+        "loop, a sign of time-dependent (thixotropic) behaviour or of points taken before steady "
+        f"state; {advice}."
+    )
+
+
+def check_segment(which: str) -> str:
+    """``which`` if it is one of SEGMENTS, else ParameterError listing them."""
+    if which not in SEGMENTS:
+        raise ParameterError(choice_message(spelled("segment", "--segment"), str(which), SEGMENTS))
+    return which
+
+
+def runs_up(shear_rate: np.ndarray, segment: np.ndarray) -> np.ndarray:
+    """Per point: True where its segment runs up in shear rate.
+
+    Segment 0 rises when its last shear rate is at least its first; a later
+    segment rises when it ends above the end of the segment before it (so a
+    one-point segment has a direction too).
+    """
+    count = int(segment.max()) + 1 if segment.size else 0
+    last = np.array([shear_rate[segment == s][-1] for s in range(count)])
+    up = np.empty(count, dtype=bool)
+    if count:
+        up[0] = last[0] >= shear_rate[segment == 0][0]
+        up[1:] = last[1:] > last[:-1]
+    return up[segment]
+
+
+def keep_segment(curve: FlowCurve, which: str, shown: str) -> FlowCurve:
+    """The points of ``curve`` in its up or down segments (``which``), flagged; all for 'all'.
+
+    A sweep that runs only that way is returned as it is.  Raises
+    InputFileError naming the file when fewer than 3 points are left.
+    """
+    if which == "all" or curve.segment is None:
+        return curve
+    keep = runs_up(curve.shear_rate, curve.segment) == (which == "up")
+    if keep.all():
+        return curve
+    sweep = curve.metadata.get("import", {}).get("sweep", "")
+    if keep.sum() < 3:
+        other = "down" if which == "up" else "up"
+        raise InputFileError(
+            f"File '{shown}' ({curve.name}: {sweep}) has {int(keep.sum())} points in "
+            f"{which} segments; a flow curve needs at least 3, so choose "
+            f"{spelled(f'segment={other!r}', f'--segment {other}')} or "
+            f"{spelled(repr('all'), 'all')}."
+        )
+    flags = tuple(Flag(f.code, _hysteresis_message(f.data, which), f.data) if f.code == "hysteresis" else f
+                  for f in curve.flags)
+    kept = Flag("segment_kept", f"Only the {which} segment of the {sweep} sweep was used "
+                f"({int(keep.sum())} of {keep.size} points), as asked.",
+                {"segment": which, "points": int(keep.sum()), "of": int(keep.size)})
+    metadata = dict(curve.metadata, **{"import": dict(curve.metadata.get("import", {}), segment=which)})
+    return replace(curve, shear_rate=curve.shear_rate[keep], viscosity=curve.viscosity[keep],
+                   stress=curve.stress[keep], segment=curve.segment[keep], flags=flags + (kept,),
+                   metadata=metadata)
 
 
 def _gap(shear_rate, viscosity, segment, a: int, b: int):

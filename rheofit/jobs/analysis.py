@@ -1,7 +1,9 @@
 """The job behind a report: fit every curve, predict its flow cases, compare the lots.
 
-The results are plain frozen data (:class:`Analysis`), which
-:mod:`rheofit.report.html` renders without computing anything but figures.
+The results are plain frozen data (:class:`Analysis`): the fits, the
+predictions and every curve and band the figures draw (computed here, once),
+which :mod:`rheofit.report.html` renders and :meth:`Analysis.to_dict` turns
+into JSON.
 
 >>> from rheofit.flow import Tube
 >>> case = OperatingCase("tube", Tube("0.8 mm", "30 cm"), flow_rate=50e-9 / 60)
@@ -14,10 +16,14 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from rheofit.errors import GeometryError
+from rheofit.output import json_safe
 from rheofit.progress import Steps, quiet
 
 #: default title of a report
 TITLE = "rheofit report"
+#: what an analysis document says it is (Analysis.to_dict)
+KIND = "rheofit-analysis"
+VERSION = 1
 
 
 @dataclass(frozen=True)
@@ -58,24 +64,62 @@ class OperatingCase:
 
 @dataclass(frozen=True)
 class CaseResult:
-    """An operating case and the prediction for it."""
+    """An operating case, the prediction for it and the curves drawn of it.
+
+    ``operating_curve`` is a :class:`~rheofit.flow.curves.OperatingCurve`
+    (with the band of the chosen fit), ``velocity_profile`` a
+    :class:`~rheofit.flow.curves.VelocityProfile`.
+    """
 
     case: OperatingCase
     prediction: object
+    operating_curve: object
+    velocity_profile: object
+
+    def to_dict(self) -> dict:
+        """A JSON-able dict: the case, its prediction and its curves."""
+        return {
+            "label": self.case.label,
+            "description": self.case.describe(),
+            "operating_point": json_safe(self.case.point),
+            "prediction": self.prediction.to_dict(),
+            "operating_curve": self.operating_curve.to_dict(),
+            "velocity_profile": self.velocity_profile.to_dict(),
+        }
 
 
 @dataclass(frozen=True)
 class SampleResult:
-    """One flow curve: its fits (best first by AICc), the chosen fit and its flow cases."""
+    """One flow curve: its fits, the chosen fit and its flow cases.
+
+    ``ranking`` is the :class:`~rheofit.fitting.solve.FitRanking` (best first
+    by AICc, ``skipped`` lists the models not fitted and why); ``band`` the
+    :class:`~rheofit.fitting.band.ViscosityBand` of the chosen fit, over the
+    measured range widened to reach the cases' wall shear rates.
+    """
 
     curve: object
     ranking: list
     chosen: object
+    band: object
     cases: tuple[CaseResult, ...] = ()
 
     @property
     def name(self) -> str:
         return self.curve.name or "unnamed sample"
+
+    def to_dict(self) -> dict:
+        """A JSON-able dict: the data, every fit (best first), the models not fitted, the band, the cases."""
+        return {
+            "name": self.name,
+            "curve": self.curve.to_dict(),
+            "chosen": self.chosen.model,
+            "fits": [fit.to_dict() for fit in self.ranking],
+            "skipped": [{"model": model, "reason": reason}
+                        for model, reason in getattr(self.ranking, "skipped", ())],
+            "viscosity_band": self.band.to_dict(),
+            "cases": [case.to_dict() for case in self.cases],
+        }
 
 
 @dataclass(frozen=True)
@@ -93,6 +137,21 @@ class Analysis:
     notice: str = ""
     title: str = TITLE
     extra: dict = field(default_factory=dict)
+
+    def to_dict(self) -> dict:
+        """A JSON-able dict of everything the report shows (SI units, nan as null)."""
+        from rheofit.flow import SAFETY_CAUTION
+
+        return {
+            "kind": KIND,
+            "version": VERSION,
+            "title": self.title,
+            "notice": self.notice,
+            "samples": [sample.to_dict() for sample in self.samples],
+            "comparison": None if self.comparison is None else self.comparison.to_dict(),
+            "comparison_note": self.comparison_note,
+            "caution": SAFETY_CAUTION,
+        }
 
 
 def fit_curve(curve, model: str | None = None):
@@ -116,17 +175,36 @@ def fit_curve(curve, model: str | None = None):
 
 
 def predict_cases(chosen, cases, density=None) -> tuple[CaseResult, ...]:
-    """A prediction per operating case with the chosen fit."""
-    from rheofit.flow import predict
+    """A prediction per operating case with the chosen fit, with its operating curve and profile."""
+    from rheofit.flow import curves, predict
 
-    return tuple(CaseResult(case, predict(chosen, case.geometry, density=density, **case.point))
-                 for case in cases)
+    results = []
+    for case in cases:
+        prediction = predict(chosen, case.geometry, density=density, **case.point)
+        results.append(CaseResult(case, prediction, curves.operating_curve(prediction, chosen),
+                                  curves.profile_against_newtonian(prediction)))
+    return tuple(results)
+
+
+def wall_shear_rates(cases) -> list[float]:
+    """The wall shear rates [1/s] of the flowing operating points of ``cases``."""
+    import numpy as np
+
+    rates = []
+    for result in cases:
+        p = result.prediction
+        rates += [float(g) for g, f in zip(np.ravel(p.wall_shear_rate), np.ravel(p.flowing)) if f and g > 0]
+    return rates
 
 
 def analyse_sample(curve, *, model: str | None = None, cases=(), density=None) -> SampleResult:
-    """Fit ``curve`` (every model, ranked) and predict each operating case."""
+    """Fit ``curve`` (every model, ranked), predict each operating case, and draw the band
+    of the chosen fit over the measured range and out to the cases' wall shear rates."""
+    from rheofit.fitting.band import drawn_band
+
     ranking, chosen = fit_curve(curve, model)
-    return SampleResult(curve, list(ranking), chosen, predict_cases(chosen, cases, density))
+    results = predict_cases(chosen, cases, density)
+    return SampleResult(curve, ranking, chosen, drawn_band(chosen, wall_shear_rates(results)), results)
 
 
 def compare_samples(samples, case: OperatingCase | None, *, model: str | None = None,

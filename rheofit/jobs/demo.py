@@ -16,7 +16,8 @@ runs on the same line.  The demo
 * runs the microgel carrier in the tube and the slit, and in the slit at
   100 Pa, below its threshold pressure drop, where it does not flow;
 * writes ``report.html`` (self-contained) and ``fits.json`` (the saved fits,
-  read back by ``rheofit flow``) into the output folder.
+  read back by ``rheofit flow``) into the output folder: by default a fresh
+  folder under the system's temporary directory, never the current one.
 """
 
 from __future__ import annotations
@@ -32,7 +33,8 @@ NOTICE = ("The data in this demo are INVENTED (bundled sample sweeps written wit
 
 LOTS = ("medium_lot_A", "medium_lot_B", "medium_lot_C")
 CARRIER = "microgel_carrier"
-DEFAULT_OUT = Path("rheofit-demo")
+#: prefix of the fresh folder under the temporary directory when no folder is given
+FOLDER_PREFIX = "rheofit-demo-"
 REPORT_NAME = "report.html"
 FITS_NAME = "fits.json"
 
@@ -85,15 +87,14 @@ def sample_curves() -> dict:
     return curves
 
 
-def _refuse(out: Path) -> None:
+def _prepare(out: Path, force: bool) -> None:
+    """Make the folder ``out`` (not missing ones above it); unless ``force``, refuse an earlier demo's files."""
     from rheofit.errors import OutputExistsError
+    from rheofit.output import make_folder
 
-    if out.exists() and not out.is_dir():
-        raise OutputExistsError(
-            f"'{out}' is a file, not a folder; give the demo a folder with --out (it is made if missing)."
-        )
+    make_folder(out)
     taken = [name for name in (REPORT_NAME, FITS_NAME) if (out / name).exists()]
-    if taken:
+    if taken and not force:
         raise OutputExistsError(
             f"The folder '{out}' already holds {' and '.join(taken)} from an earlier demo; "
             "pass --force to overwrite them or choose another folder with --out."
@@ -118,21 +119,24 @@ def analyse_demo(steps: Steps | None = None):
                     "rheofit demo: a thickened perfusion medium and a microgel carrier")
 
 
-def run_demo(out=DEFAULT_OUT, *, force: bool = False, steps: Steps | None = None) -> DemoResult:
-    """Run the whole job on the sample data and write the report into ``out``.
+def run_demo(out=None, *, force: bool = False, steps: Steps | None = None) -> DemoResult:
+    """Run the whole job on the sample data and write the report into the folder ``out``.
 
-    Raises OutputExistsError (before any work) when ``out`` already holds the
-    demo's files and ``force`` is false.
+    Without ``out``, a fresh folder under the system's temporary directory
+    (``tempfile.gettempdir()``) is made.  Raises, before any work,
+    OutputExistsError when ``out`` already holds the demo's files and
+    ``force`` is false, or is a file; OutputPathError when the folder above
+    ``out`` is missing (only ``out`` itself is made).
     """
     import json
+    import tempfile
 
     from rheofit.output import write_atomic
     from rheofit.report.html import write_report
     from rheofit.fitting.saved import fits_document
 
-    out = Path(out)
-    if not force:
-        _refuse(out)
+    out = Path(tempfile.mkdtemp(prefix=FOLDER_PREFIX)) if out is None else Path(out)
+    _prepare(out, force)
     analysis = analyse_demo(steps)
     document = fits_document([(s.curve, s.ranking) for s in analysis.samples])
     document["notice"] = NOTICE
@@ -189,6 +193,6 @@ def summary(result: DemoResult):
         parts.append(Text(head + ":\n" + "\n".join(lines)))
     elif result.analysis.comparison_note:
         parts.append(Text(result.analysis.comparison_note))
-    parts.append(Text(f"Report: {result.report}\nFits:   {result.fits}", style="bold"))
+    parts.append(Text(f"Written to {result.out}\nReport: {result.report}\nFits:   {result.fits}", style="bold"))
     parts.append(Panel(Text(SAFETY_CAUTION), border_style="yellow"))
     return Group(*parts)

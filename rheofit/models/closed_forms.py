@@ -107,3 +107,28 @@ def casson_slit_flow_rate(tau_w, half_gap, width, tau_y, mu_c):
     return 2.0 * width * half_gap**2 * np.asarray(tau_w, dtype=float) / (3.0 * mu_c) * gap**2 * poly / 10.0
 
 
+def ellis_tube_flow_rate(tau_w, radius, eta0, tau_half, alpha):
+    """Q = pi R^3 tau_w / (4 eta0) * [1 + 4/(alpha+3) * (tau_w/tau_half)^(alpha-1)].
+
+    Bird, Stewart & Lightfoot (2002), ch. 8 (from memory).  Derived here as
+    well from the Rabinowitsch-Mooney integral Q = pi R^3/tau_w^3 int_0^tau_w
+    tau^2 gd(tau) dtau with gd = tau/eta0 + tau^alpha / (eta0 tau_half^(alpha-1)):
+    the two terms give tau_w^4/(4 eta0) and tau_w^(alpha+3)/((alpha+3) eta0
+    tau_half^(alpha-1)), which is the form above.
+    """
+    tau_w = np.asarray(tau_w, dtype=float)
+    return np.pi * radius**3 * tau_w / (4.0 * eta0) * (
+        1.0 + 4.0 / (alpha + 3.0) * (tau_w / tau_half) ** (alpha - 1.0))
+
+
+def ellis_slit_flow_rate(tau_w, half_gap, width, eta0, tau_half, alpha):
+    """Q = 2 W h^2 tau_w / (3 eta0) * [1 + 3/(alpha+2) * (tau_w/tau_half)^(alpha-1)].
+
+    Derived here from the slit integral Q = 2 W h^2/tau_w^2 int_0^tau_w tau
+    gd(tau) dtau: the terms give tau_w^3/(3 eta0) and tau_w^(alpha+2) /
+    ((alpha+2) eta0 tau_half^(alpha-1)).  At alpha = 1 both forms are the
+    Newtonian ones with viscosity eta0/2.
+    """
+    tau_w = np.asarray(tau_w, dtype=float)
+    return 2.0 * width * half_gap**2 * tau_w / (3.0 * eta0) * (
+        1.0 + 3.0 / (alpha + 2.0) * (tau_w / tau_half) ** (alpha - 1.0))

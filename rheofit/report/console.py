@@ -8,6 +8,7 @@ from rich.console import Group
 from rich.table import Table
 from rich.text import Text
 
+from rheofit.fitting.statistics import akaike_weights
 from rheofit.models import MODELS
 from rheofit.report.display import number, shown
 
@@ -45,8 +46,7 @@ _FLAG_LEGEND = "flags: B parameter at a bound, F few points, P residual pattern,
 def ranking_table(results) -> Table:
     """Models ranked by AICc with Akaike weights (Burnham & Anderson 2002)."""
     best = results[0].aicc
-    weights = [math.exp(-0.5 * (r.aicc - best)) for r in results]
-    total = sum(weights)
+    weights = akaike_weights([r.aicc for r in results])
     table = Table(title="Ranking (AICc, lower is better)", caption="rms(ln): typical relative misfit; weight: Akaike weight\n" + _FLAG_LEGEND)
     table.add_column("#", justify="right")
     table.add_column("model", no_wrap=True)
@@ -57,7 +57,7 @@ def ranking_table(results) -> Table:
         codes = sorted({_SHORT_FLAG.get(f.code, f.code) for f in r.flags if f.code in _SHORT_FLAG})
         table.add_row(
             str(i), r.model, str(len(r.params)), f"{r.aicc:.1f}", f"{r.aicc - best:.1f}",
-            f"{w / total:.3f}", f"{r.bic:.1f}", f"{r.rms_log_residual:.3f}", "".join(codes) or "—",
+            f"{w:.3f}", f"{r.bic:.1f}", f"{r.rms_log_residual:.3f}", "".join(codes) or "—",
         )
     return table
 

@@ -1,4 +1,8 @@
-"""Figures of a fit: the flow curve with its 95 % band, and the log-space residuals."""
+"""Figures of a fit: the flow curve with its 95 % band, and the log-space residuals.
+
+Pure renderers: the band is computed beforehand (:class:`rheofit.fitting.band.ViscosityBand`);
+only the fitted closed-form curves of the other models are evaluated here.
+"""
 
 from __future__ import annotations
 
@@ -6,14 +10,11 @@ import math
 
 import numpy as np
 
+from rheofit.errors import ParameterError
 from rheofit.report.plots import (
     EXTRAPOLATED, INK, RANGE_FILL, SHEAR_RATE_LABEL, VISCOSITY_LABEL, legend_below, log_axes,
     new_figure, plain, series_style, styled,
 )
-from rheofit.fitting.draws import viscosity_band
-
-#: how far past an outside operating point the chosen model is drawn [-]
-_MARGIN = 1.6
 
 
 def _ranked(fits) -> list:
@@ -41,36 +42,26 @@ def measured_points(fit, curve=None) -> tuple[np.ndarray, np.ndarray]:
     return rate, fit.viscosity(rate) * np.exp(-np.asarray(fit.residuals, float))
 
 
-def _wall_rates(pairs) -> list[float]:
-    rates = []
-    for _, p in pairs:
-        rates += [float(g) for g, f in zip(np.ravel(p.wall_shear_rate), np.ravel(p.flowing)) if f and g > 0]
-    return rates
+def _wall_points(prediction) -> tuple[np.ndarray, np.ndarray]:
+    """Wall shear rate [1/s] and the viscosity there, tau_w / gd_w [Pa*s], of the flowing points."""
+    rate, stress = np.ravel(prediction.wall_shear_rate), np.ravel(prediction.wall_shear_stress)
+    keep = np.ravel(prediction.flowing).astype(bool) & (rate > 0)
+    return rate[keep], stress[keep] / rate[keep]
 
 
-def _extent(low: float, high: float, rates: list[float]) -> tuple[float, float]:
-    """Shear-rate span to draw: the measured range, widened to reach outside operating points."""
-    if rates and min(rates) < low:
-        low = min(rates) / _MARGIN
-    if rates and max(rates) > high:
-        high = max(rates) * _MARGIN
-    return low, high
-
-
-def _draw_chosen(axes, fit, low, high, extent, style):
+def _draw_chosen(axes, fit, band, style):
     """The chosen model: solid over the data, dashed where extrapolated, with its band."""
-    inside = np.geomspace(low, high, 200)
-    axes.plot(inside, fit.viscosity(inside), color=style["color"], linewidth=2.2, zorder=4,
+    low, high = band.measured_range
+    rate, eta = band.shear_rate, band.viscosity
+    inside = (rate >= low) & (rate <= high)
+    axes.plot(rate[inside], eta[inside], color=style["color"], linewidth=2.2, zorder=4,
               label=f"{fit.declaration.title} (chosen)")
-    grid = np.geomspace(*extent, 300)
-    for segment in (grid[grid <= low], grid[grid >= high]):
-        if segment.size > 1:
-            axes.plot(segment, fit.viscosity(segment), color=style["color"], linewidth=2.0,
+    for part in (rate <= low, rate >= high):
+        if part.sum() > 1:
+            axes.plot(rate[part], eta[part], color=style["color"], linewidth=2.0,
                       linestyle=EXTRAPOLATED, zorder=4, label="chosen model, extrapolated")
-    band = viscosity_band(fit, grid)
-    if band is not None:
-        axes.fill_between(grid, band[0], band[1], color=style["color"], alpha=0.18, linewidth=0,
-                          zorder=2, label="95 % confidence band (chosen)")
+    axes.fill_between(rate, band.low, band.high, color=style["color"], alpha=0.18, linewidth=0,
+                      zorder=2, label=f"{100 * band.level:.0f} % confidence band (chosen)")
 
 
 def _draw_others(axes, others, best_aicc, low, high):
@@ -82,41 +73,46 @@ def _draw_others(axes, others, best_aicc, low, high):
                   linewidth=1.3, zorder=3, label=f"{fit.declaration.title}, ΔAICc {delta:.1f}")
 
 
-def _draw_operating(axes, fit, pairs):
+def _draw_operating(axes, pairs):
     for j, (label, p) in enumerate(pairs):
-        rates = [g for g, f in zip(np.ravel(p.wall_shear_rate), np.ravel(p.flowing)) if f and g > 0]
-        if not rates:
+        rates, eta = _wall_points(p)
+        if not rates.size:
             continue
         marker = ("D", "v", "P", "X")[j % 4]
-        axes.plot(rates, fit.viscosity(np.asarray(rates)), linestyle="none", marker=marker,
+        axes.plot(rates, eta, linestyle="none", marker=marker,
                   markersize=8, markerfacecolor="white", markeredgecolor=INK, markeredgewidth=1.4,
                   zorder=6, label=f"{plain(label)}: wall {rates[0]:.3g} 1/s")
 
 
 @styled
-def flow_curve_figure(fits, *, curve=None, chosen=None, operating=(), top: int = 3):
+def flow_curve_figure(fits, band, *, curve=None, chosen=None, operating=(), top: int = 3):
     """Viscosity against shear rate (log-log) of one sample.
 
     Parameters
     ----------
     fits : FitResult or list of FitResult (best first, as from fit_all)
+    band : ViscosityBand
+        Of the chosen model (:func:`rheofit.fitting.band.drawn_band`): its
+        curve is drawn solid over the measured shear-rate range and dashed
+        where it is extrapolated (to reach an operating point), with its band.
     curve : FlowCurve, optional
         The measured data; rebuilt from the fit's residuals when not given.
     chosen : FitResult, optional
-        The model used downstream (default: the first of ``fits``); drawn
-        with its 95 % confidence band, solid over the measured shear-rate
-        range and dashed where it is extrapolated to reach an operating point.
+        The model used downstream (default: the first of ``fits``).
     operating : list of FlowPrediction or (label, FlowPrediction)
-        Operating points, marked at their wall shear rate on the chosen curve.
+        Operating points, marked at their wall shear rate and viscosity.
     top : int
         How many of the best models (by AICc) to draw.
+
+    Raises ParameterError when ``band`` is not of the chosen model.
     """
     ranked = _ranked(fits)
     chosen = chosen or ranked[0]
+    if band.model != chosen.model:
+        raise ParameterError(f"The band is of the {band.model} model, but the chosen fit is "
+                             f"{chosen.model}; give the band of the chosen fit.")
     others = [f for f in ranked[:top] if f is not chosen][: max(top - 1, 0)]
-    pairs = _operating(operating)
-    low, high = chosen.shear_rate_range
-    extent = _extent(low, high, _wall_rates(pairs))
+    low, high = band.measured_range
     figure = new_figure()
     axes = figure.add_subplot()
     axes.axvspan(low, high, color=RANGE_FILL, zorder=0, label="measured shear-rate range")
@@ -124,11 +120,11 @@ def flow_curve_figure(fits, *, curve=None, chosen=None, operating=(), top: int =
     axes.plot(rate, eta, linestyle="none", marker="o", markerfacecolor="white", markeredgecolor=INK,
               markersize=5, zorder=5, label="measured")
     best = min(f.aicc for f in ranked if math.isfinite(f.aicc)) if ranked else chosen.aicc
-    _draw_chosen(axes, chosen, low, high, extent, series_style(0))
+    _draw_chosen(axes, chosen, band, series_style(0))
     _draw_others(axes, others, best, low, high)
-    _draw_operating(axes, chosen, pairs)
+    _draw_operating(axes, _operating(operating))
     log_axes(axes)
-    axes.set_xlim(extent[0] / 1.25, extent[1] * 1.25)
+    axes.set_xlim(band.shear_rate[0] / 1.25, band.shear_rate[-1] * 1.25)
     axes.set_xlabel(SHEAR_RATE_LABEL)
     axes.set_ylabel(VISCOSITY_LABEL)
     axes.set_title(f"{plain(chosen.name or 'sample')}: flow curve")

@@ -54,8 +54,8 @@ def _sample_figures(i, sample, taken):
         f"confidence band of the chosen {model} model. Shaded: the measured shear-rate range; a "
         "dashed line is the chosen model extrapolated beyond it; open markers on the curve: the "
         "wall shear rates of the flow cases.",
-        lambda: plots.flow_curve_figure(sample.ranking, curve=sample.curve, chosen=sample.chosen,
-                                        operating=operating),
+        lambda: plots.flow_curve_figure(sample.ranking, sample.band, curve=sample.curve,
+                                        chosen=sample.chosen, operating=operating),
     )
     yield PlannedFigure(
         _unique(f"{base}-residuals", taken), ("sample", i),
@@ -79,14 +79,16 @@ def _case_figures(i, sample, taken):
                 f"Velocity across the channel ({case.describe()}): the {p.fluid.declaration.title} "
                 "model against a Newtonian fluid carrying the same flow rate; hatched: the "
                 "unsheared plug of a yield-stress fluid.",
-                lambda p=p, title=title: plots.velocity_profile_figure(p, label=title),
+                lambda p=p, r=result, title=title: plots.velocity_profile_figure(
+                    p, r.velocity_profile, label=title),
             )
         yield PlannedFigure(
             _unique(f"{stem}-operating-curve", taken), ("case", i, j),
             f"Pressure drop against flow rate in the {case.geometry.describe()}: the "
             f"{p.fluid.declaration.title} model with its 95 % band from the parameter uncertainty, "
             "the Newtonian estimates and the operating point.",
-            lambda p=p, title=title: plots.operating_curve_figure(p, sample.chosen, label=title),
+            lambda p=p, r=result, title=title: plots.operating_curve_figure(
+                p, r.operating_curve, label=title),
         )
 
 

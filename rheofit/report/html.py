@@ -58,10 +58,10 @@ def _render(plan, steps: Steps, keep) -> dict:
 def _header(analysis) -> Raw:
     from datetime import date
 
-    from rheofit import __version__
+    from rheofit.version import VERSION
 
     parts = [tag("h1", analysis.title),
-             tag("p", f"Made with rheofit {__version__} on {date.today().isoformat()}.", class_="meta")]
+             tag("p", f"Made with rheofit {VERSION} on {date.today().isoformat()}.", class_="meta")]
     if analysis.notice:
         parts.append(tag("p", analysis.notice, class_="notice"))
     return join(*parts)
@@ -99,29 +99,20 @@ def report_files(path, analysis, figures_dir=None) -> list[Path]:
     return files
 
 
-def refuse_existing(files) -> None:
-    """Raise OutputExistsError naming the first file that exists."""
-    from rheofit.errors import OutputExistsError
-
-    for file in files:
-        if Path(file).exists():
-            raise OutputExistsError(
-                f"Output file '{file}' already exists; choose another name or pass --force to overwrite it."
-            )
-
-
 def write_report(path, analysis, *, figures_dir=None, force: bool = False,
                  steps: Steps | None = None) -> Path:
     """Write the report to ``path`` (atomically), and each figure as PNG and SVG into ``figures_dir``.
 
-    Nothing is overwritten without ``force``: the check runs before any
-    work, and raises OutputExistsError naming the file.
+    Nothing is overwritten without ``force`` and no missing folder is made
+    for the report: the checks run before any work, and raise
+    OutputExistsError or OutputPathError naming the path.
     """
-    from rheofit.output import make_folder, write_atomic
+    from rheofit.output import check_target, make_folder, refuse_existing, write_atomic
     from rheofit.report import plots
 
+    check_target(path, force=force)
     if not force:
-        refuse_existing(report_files(path, analysis, figures_dir))
+        refuse_existing(*report_files(path, analysis, figures_dir))
 
     def keep(key, fig, svg):
         plots.save_figure(fig, figures_dir, key, force=force, svg=svg)

@@ -6,6 +6,7 @@ import math
 
 import numpy as np
 
+from rheofit.fitting.statistics import CORRELATION_SHOWN_ABOVE, akaike_weights
 from rheofit.report.display import number, shown
 from rheofit.report.html_parts import Raw, bullets, esc, join, key_values, percent, table, tag
 
@@ -14,16 +15,6 @@ _GAP = Raw("\n")
 
 def _first(value):
     return np.ravel(value)[0].item() if value is not None else None
-
-
-def _weights(ranking) -> list[float]:
-    """Akaike weights w_i = exp(-D_i/2) / sum exp(-D_j/2) (Burnham & Anderson 2002)."""
-    aicc = np.array([r.aicc for r in ranking], dtype=float)
-    finite = np.isfinite(aicc)
-    if not finite.any():
-        return [math.nan] * len(ranking)
-    rel = np.where(finite, np.exp(-0.5 * (aicc - aicc[finite].min())), 0.0)
-    return (rel / rel.sum()).tolist()
 
 
 def _flag_words(flags) -> str:
@@ -104,19 +95,25 @@ def ranking_table(sample) -> Raw:
     ranking = sample.ranking
     best = min((r.aicc for r in ranking if math.isfinite(r.aicc)), default=math.nan)
     rows = []
-    for i, (r, w) in enumerate(zip(ranking, _weights(ranking)), start=1):
+    for i, (r, w) in enumerate(zip(ranking, akaike_weights([r.aicc for r in ranking])), start=1):
         mark = " (chosen)" if r is sample.chosen else ""
         rows.append([str(i), r.declaration.title + mark, str(r.n_params), f"{r.aicc:.1f}",
                      f"{r.aicc - best:.1f}", f"{w:.3f}", f"{r.bic:.1f}", f"{r.rms_log_residual:.3f}",
                      _flag_words(r.flags)])
-    skipped = getattr(ranking, "skipped", ())
     caption = ("AICc: Akaike information criterion with the small-sample correction (lower is "
                "better); ΔAICc > 2 is a real difference, > 10 a decisive one. weight: Akaike weight. "
                "rms(ln): typical relative misfit.")
-    if skipped:
-        caption += " Not fitted: " + "; ".join(f"{name} ({why})" for name, why in skipped) + "."
     return table(["#", "model", "k", "AICc", "ΔAICc", "weight", "BIC", "rms(ln)", "flags"], rows,
                  caption=caption)
+
+
+def not_fitted(sample) -> Raw:
+    """The models left out of the ranking, each with the reason (nothing when none was)."""
+    skipped = sample.ranking.skipped
+    if not skipped:
+        return Raw("")
+    return join(tag("p", "Not fitted:"),
+                bullets([join(tag("strong", name), Raw(": "), why) for name, why in skipped]))
 
 
 def parameter_table(fit) -> Raw:
@@ -135,6 +132,22 @@ def parameter_table(fit) -> Raw:
                  caption="'open': the data do not bound the parameter on that side.")
 
 
+def correlation_table(fit) -> Raw:
+    """Pairs of the chosen model's estimates with |r| above the threshold (nothing for one parameter)."""
+    if fit.n_params < 2:
+        return Raw("")
+    pairs = fit.correlations()
+    if not pairs:
+        why = "the fit gave no covariance" if pairs is None else f"no pair has |r| > {CORRELATION_SHOWN_ABOVE:g}"
+        return tag("p", f"Correlations of the estimates: {why}.", class_="quiet")
+    rows = [[f"{a} and {b}", f"{r:+.3f}"] for a, b, r in pairs]
+    return table(["parameters", "correlation r"], rows,
+                 caption=f"Correlations of the estimates with |r| > {CORRELATION_SHOWN_ABOVE:g}, "
+                         "largest first: first order, from the covariance at the optimum (the same for "
+                         "the SI values and the log coordinates the fit uses inside). |r| near 1: the "
+                         "data fix a combination of the two rather than each one.")
+
+
 def _sample_flags(sample) -> Raw:
     messages = [f.message for f in sample.curve.flags] + [f.message for f in sample.chosen.flags]
     return bullets(messages, empty="No flags: the data and the chosen fit raised no warning.")
@@ -146,9 +159,11 @@ def sample_section(i: int, sample, placed: dict) -> Raw:
     parts = [
         tag("h2", f"Sample: {sample.name}", id=f"sample-{i}"), _sample_facts(sample),
         tag("h3", "Models ranked by AICc"), tag("div", ranking_table(sample), class_="scroll"),
+        not_fitted(sample),
         tag("h3", f"Chosen model: {fit.declaration.title}"),
         tag("p", join(tag("code", fit.declaration.equation), Raw(" — "), fit.declaration.reference)),
         tag("div", parameter_table(fit), class_="scroll"),
+        correlation_table(fit),
         tag("h3", "Flags"), _sample_flags(sample),
         _figures(placed.get(("sample", i), [])),
     ]

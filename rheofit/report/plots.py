@@ -1,9 +1,12 @@
 """Figures of fits, flows and lot comparisons (matplotlib, imported lazily).
 
 Every figure function takes plain results (FitResult, FlowPrediction,
-Comparison) and returns a :class:`matplotlib.figure.Figure` drawn on the Agg
-canvas: no display, no pyplot state, nothing imported before the first
-figure is asked for.
+Comparison, and the curves computed for them beforehand: ViscosityBand from
+:mod:`rheofit.fitting.band`, OperatingCurve and VelocityProfile from
+:mod:`rheofit.flow.curves`) and returns a :class:`matplotlib.figure.Figure`
+drawn on the Agg canvas: no display, no pyplot state, nothing imported
+before the first figure is asked for.  The figures draw; they run no flow
+solve and no Monte Carlo (tests/test_results_data.py checks their imports).
 
 =================================  ==============================================
 :func:`flow_curve_figure`          viscosity against shear rate: data, the top

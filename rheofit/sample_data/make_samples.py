@@ -7,7 +7,7 @@ rotational rheometer at 37 °C; lot C was mixed with too little water.  A
 microgel carrier suspension with a small yield stress is pumped on the same
 line.  No real instrument, sample or lot stands behind these numbers.
 
-Run ``python sample_data/make_samples.py`` to regenerate the files.
+Run ``python rheofit/sample_data/make_samples.py`` to regenerate the files.
 """
 
 from __future__ import annotations
