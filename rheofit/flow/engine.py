@@ -220,8 +220,7 @@ class Rheology:
         self.unusable = stop - start < 2
         last = np.maximum(stop - 1, 0)
         self._grid, self._set_lt, self._from, self._to = self._TABLE[index], lt, start, stop
-        self._tops = lt[np.arange(self.size), last]
-        self._limits = np.where(falls, self._grid[last], np.inf)
+        self._tops, self._top_x = lt[np.arange(self.size), last], self._grid[last]
         ends = np.nonzero(falls & ~self.unusable)[0]
         if ends.size:  # the end on the full table: between coarse entries stop - 2 and stop
             base = index[np.maximum(stop[ends] - 2, start[ends])]
@@ -231,7 +230,30 @@ class Rheology:
             found = end < cols.shape[1]
             rows, end = ends[found], end[found]
             self._tops[rows] = fine[found, end - 1]
-            self._limits[rows] = np.where(fell[found], self._TABLE[cols[found, end - 1]], np.inf)
+            self._top_x[rows] = self._TABLE[cols[found, end - 1]]
+            falls[rows] = fell[found]
+        self._limits = np.where(falls, self._top_x, np.inf)
+        self._level_off(index, lt, start, stop)
+
+    def _level_off(self, index, lt, start, stop):
+        """Move a set's rising limit back where its curve levels off, as :attr:`rising_limit` does.
+
+        On the coarse table a set levels off when two entries of its rising
+        branch lie within _PLATEAU of its top; the first ln s within it is then
+        found on the full table, between the coarse entry before and the first
+        one within.
+        """
+        cols = np.arange(lt.shape[1])[None, :]
+        with np.errstate(invalid="ignore"):
+            near = (cols >= start[:, None]) & (cols < stop[:, None]) & (self._tops[:, None] - lt <= _PLATEAU)
+        sets = np.nonzero((near.sum(axis=1) > 1) & ~self.unusable)[0]
+        if sets.size == 0:
+            return
+        first = np.argmax(near[sets], axis=1)
+        base = index[np.maximum(first - 1, start[sets])]
+        fine_cols = np.minimum(base[:, None] + np.arange(_COARSE + 1)[None, :], self._TABLE.size - 1)
+        within = self._tops[sets][:, None] - self._log_table(fine_cols, sets) <= _PLATEAU
+        self._limits[sets] = self._TABLE[fine_cols[np.arange(sets.size), np.argmax(within, axis=1)]]
 
     def _log_table(self, index, sets):
         """ln tau [ln Pa] at the table entries ``index`` (shared, or one row per set of ``sets``)."""
@@ -357,7 +379,7 @@ class Rheology:
             # above the last coarse entry of a branch that ends further on the full table
             above = first == stop
             lo_lt, lo = np.where(above, hi_lt, lo_lt), np.where(above, hi, lo)
-            hi_lt, hi = np.where(above, self._tops[sets], hi_lt), np.where(above, self._limits[sets], hi)
+            hi_lt, hi = np.where(above, self._tops[sets], hi_lt), np.where(above, self._top_x[sets], hi)
             floor = np.where(low_end, self._grid[start], np.inf)
         span = hi_lt - lo_lt
         with np.errstate(divide="ignore", invalid="ignore"):
