@@ -107,6 +107,7 @@ def compare_command(
     from rheofit.lots import lot_labels
     from rheofit.errors import ParameterError
     from rheofit.output import check_target
+    from rheofit.report.display import markup_safe
     from rheofit.units import parse_tolerance
     from rheofit.models import get_model
 
