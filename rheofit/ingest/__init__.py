@@ -46,6 +46,7 @@ from rheofit.ingest.dialect import Dialect, sniff
 from rheofit.ingest.layout import Block, Layout, find_layout, no_table
 from rheofit.ingest.lines import Lines
 from rheofit.ingest.source import read_lines
+from rheofit.units import counting_number
 from rheofit.ingest.sweep import check_segment, keep_segment
 from rheofit.ingest.table import Cells
 
@@ -238,8 +239,8 @@ def _pick(curves: list[FlowCurve], curve, shown: str) -> FlowCurve:
             label = _plain(c.metadata["import"]["curve"])
             if wanted in (label, _plain(c.name)) or wanted + "c" == label:  # "25" for "25 °C"
                 return c
-        if curve.strip().isdigit():
-            return _pick(curves, int(curve), shown)
+        if counting_number(curve) is not None:
+            return _pick(curves, counting_number(curve), shown)
     raise InputFileError(
         f"File '{shown}' has no curve {curve!r}: it holds {len(curves)} curve"
         f"{'s' if len(curves) > 1 else ''} ({_listing(curves)}), numbered from 1; pass one of those "

@@ -10,7 +10,7 @@ from rich.text import Text
 
 from rheofit.fitting.statistics import akaike_weights
 from rheofit.models import MODELS
-from rheofit.report.display import number, shown
+from rheofit.report.display import literal, number, shown, visible
 
 
 def interval(ci) -> str:
@@ -85,7 +85,7 @@ def flag_lines(flags) -> Text:
     text = Text()
     for flag in flags:
         text.append("  • ", style="yellow")
-        text.append(flag.message + "\n")
+        text.append(visible(flag.message) + "\n")
     return text
 
 
@@ -93,7 +93,7 @@ def curve_block(curve, results, chosen) -> Group:
     """Everything `rheofit fit` shows for one curve."""
     low, high = curve.shear_rate_range
     head = Text(
-        f"\n{curve.name}  ({curve.source or 'in memory'}; {len(curve)} points, "
+        f"\n{visible(curve.name)}  ({visible(curve.source or 'in memory')}; {len(curve)} points, "
         f"shear rate {number(low)}–{number(high)} 1/s)",
         style="bold",
     )
@@ -113,7 +113,7 @@ def summary_table(groups) -> Table:
         best = results[0]
         gap = f"{results[1].aicc - best.aicc:.2f}" if len(results) > 1 else "—"
         params = ", ".join(f"{k}={number(v.value)}" for k, v in best.params.items())
-        table.add_row(curve.name, best.model, gap, params, str(len(best.flags)))
+        table.add_row(literal(curve.name), best.model, gap, params, str(len(best.flags)))
     return table
 
 
@@ -155,7 +155,7 @@ def prediction_block(result, geometry, p) -> Group:
 
     from rheofit.flow.predict import SAFETY_CAUTION
 
-    label = f" '{p.fluid.name}'" if p.fluid.name else ""
+    label = f" '{visible(p.fluid.name)}'" if p.fluid.name else ""
     head = Text(f"\n{p.fluid.model}{label} in a {geometry.describe()}", style="bold")
     table = Table(show_header=False, box=None, padding=(0, 2))
     table.add_column(style="cyan")
