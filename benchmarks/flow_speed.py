@@ -7,17 +7,41 @@
        Q(tau_w) = pi R^3 / tau_w^3 * int_0^tau_w tau^2 gd(tau) dtau
    (Rabinowitsch 1929; Mooney 1931).  The naive time per point is measured
    on the subset and scaled.
-2. Worst relative error of the generic engine against closed forms (power
+2. The block size of the engine (rows of operating points per vectorised
+   block): Q -> dP and dP -> Q at the same 10,000 points for 32-4096 rows,
+   each size in a fresh process (first call and best of ``--repeat``), and
+   whether the results are bit-identical to those with 4096 rows (the size
+   before; now 64).
+3. Worst relative error of the generic engine against closed forms (power
    law, Bingham, Herschel-Bulkley; tube and slit; n 0.15-1.5, tau_y/tau_w up
    to 0.98; both directions), coded here independently of the package.
 
-Run:  python benchmarks/flow_speed.py [--points 10000] [--subset 20]
+Measured on 2 shared cores (load about 1), Carreau, 10,000 points, generic
+engine, each block size in a fresh process, first call / best of 5 [us per
+point]; every size gave bit-identical results:
+
+    rows    Q -> dP         dP -> Q
+      32    7.45 / 7.27     3.47 / 3.33
+      64    6.82 / 6.58     3.19 / 2.98    (now)
+     128    6.61 / 6.61     3.13 / 3.01
+     256   10.92 / 10.92    4.57 / 4.37
+     512   12.46 / 11.80    5.70 / 5.51
+    1024   13.78 / 12.35    6.25 / 6.08
+    2048   15.11 / 14.09    6.89 / 6.89
+    4096   14.93 / 11.20    6.74 / 5.48    (before)
+
+The engine as it was (4096 rows), same session: 12.5 and 7.1 us per point.
+
+Run:  python benchmarks/flow_speed.py [--points 10000] [--subset 20] [--repeat 3]
 """
 
 from __future__ import annotations
 
 import argparse
+import hashlib
 import math
+import subprocess
+import sys
 import time
 
 import numpy as np
@@ -108,6 +132,48 @@ def closed_form_errors():
     return rows
 
 
+BLOCKS = (32, 64, 128, 256, 512, 1024, 2048, 4096)
+
+
+def best_of(repeats, function):
+    times, value = [], None
+    for _ in range(repeats):
+        start = time.perf_counter()
+        value = function()
+        times.append(time.perf_counter() - start)
+    return min(times), value
+
+
+def one_block_size(size: int, points: int, repeats: int) -> None:
+    """Print the first and the best Q -> dP and dP -> Q times [s] with ``size`` rows, and a digest."""
+    engine.BLOCK_ROWS = size
+    f, q = fluid("carreau", **CARREAU), np.geomspace(1e-12, 1e-6, points)
+    first, dp = best_of(1, lambda: engine.pressure_drop(f, TUBE, q, "generic"))
+    first_back, back = best_of(1, lambda: engine.flow_rate(f, TUBE, dp, "generic"))
+    forward, _ = best_of(repeats, lambda: engine.pressure_drop(f, TUBE, q, "generic"))
+    backward, _ = best_of(repeats, lambda: engine.flow_rate(f, TUBE, dp, "generic"))
+    digest = hashlib.sha256(dp.tobytes() + back.tobytes()).hexdigest()
+    print(first, min(first, forward), first_back, min(first_back, backward), digest)
+
+
+def block_sizes(points, repeats):
+    """(rows, times [s], bit-identical to 4096 rows) for each block size.
+
+    times: Q -> dP first and best, dP -> Q first and best.  Each size runs
+    in a fresh process, as a user's session would: the allocator's state
+    after large blocks (glibc raises its mmap threshold when one is freed)
+    makes the later calls of a session faster than its first.
+    """
+    rows = []
+    for size in BLOCKS:
+        out = subprocess.run([sys.executable, __file__, "--one-block", str(size), "--points", str(points),
+                              "--repeat", str(repeats)], capture_output=True, text=True, check=True)
+        *times, digest = out.stdout.split()
+        rows.append((size, [float(t) for t in times], digest))
+    reference = rows[-1][2]
+    return [(size, times, digest == reference) for size, times, digest in rows]
+
+
 def main(points: int, subset: int, repeats: int = 3) -> None:
     f = fluid("carreau", **CARREAU)
     q = np.geomspace(1e-12, 1e-6, points)
@@ -140,6 +206,14 @@ def main(points: int, subset: int, repeats: int = 3) -> None:
           f"{naive_per_point * points:.0f} s for all {points}, scaled)")
     print(f"  speed-up:             {naive_per_point / per_point:.0f} x")
     print(f"  worst relative error, engine vs naive reference: {naive_error:.2e}")
+    print(f"block size (rows per vectorised block; {engine.BLOCK_ROWS} now, 4096 before), {points} "
+          f"points, each size in a fresh process: first call, best of {repeats} [us per point]")
+    print(f"  {'rows':>6}{'Q -> dP first':>15}{'best':>8}{'dP -> Q first':>15}{'best':>8}"
+          "   bit-identical to 4096")
+    for size, times, same in block_sizes(points, repeats):
+        mark = "  <- now" if size == engine.BLOCK_ROWS else ("  <- before" if size == 4096 else "")
+        cells = "".join(f"{1e6 * t / points:>{w}.2f}" for t, w in zip(times, (15, 8, 15, 8)))
+        print(f"  {size:>6}{cells}   {'yes' if same else 'NO'}{mark}")
     print("worst relative error of the generic engine against closed forms (both directions):")
     for name, kind, count, worst in closed_form_errors():
         print(f"  {name:<17} {kind:<5} {count:>3} cases   {worst:.2e}")
@@ -149,5 +223,10 @@ if __name__ == "__main__":
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--points", type=int, default=10_000, help="flow rates timed with the engine")
     parser.add_argument("--subset", type=int, default=20, help="flow rates timed with the naive reference")
+    parser.add_argument("--repeat", type=int, default=3, help="runs per timing (the best is shown)")
+    parser.add_argument("--one-block", type=int, default=0, help=argparse.SUPPRESS)
     args = parser.parse_args()
-    main(args.points, args.subset)
+    if args.one_block:
+        one_block_size(args.one_block, args.points, args.repeat)
+    else:
+        main(args.points, args.subset, args.repeat)

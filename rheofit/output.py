@@ -3,9 +3,9 @@ existing file unless asked."""
 
 from __future__ import annotations
 
+import contextlib
 import math
 import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -45,15 +45,45 @@ def json_safe(value):
     return value if value is None or isinstance(value, str) else str(value)
 
 
-def _umask() -> int:
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
+_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+
+def spreadsheet_safe(value):
+    """A CSV cell a spreadsheet will not run as a formula: text starting with ``= + - @``,
+    tab or CR gets a leading single quote (OWASP, "CSV Injection"); numbers, and text
+    that reads as a number (``-1.5``), stay as they are.
+
+    >>> [spreadsheet_safe(v) for v in ("=HYPERLINK(1)", "-1.5", -2.0, "@x", "lot A")]
+    ["'=HYPERLINK(1)", '-1.5', -2.0, "'@x", 'lot A']
+    """
+    if not isinstance(value, str) or not value.startswith(_FORMULA_START):
+        return value
+    try:
+        float(value)
+        return value
+    except ValueError:
+        return "'" + value
+
+
+def csv_text(table) -> str:
+    """A pandas table as CSV text with every cell and column name made :func:`spreadsheet_safe`;
+    every CSV rheofit writes goes through here."""
+    safe = table.map(spreadsheet_safe)
+    safe.columns = [spreadsheet_safe(str(c)) for c in safe.columns]
+    return safe.to_csv(index=False)
+
+
+PARTIAL = ".rheofit-partial-"
+"""Temp files are named ``<output>.rheofit-partial-<pid>``: recognisable, safe to delete."""
+
+_STAGED: list | None = None  # (temp, target) pairs waiting for the end of a staged() block
 
 
 def _blocked(folder: Path):
     """Why files cannot go into ``folder``, as (error class, reason), or None when they can."""
     if folder.is_dir():
+        if not os.access(folder, os.W_OK | os.X_OK):
+            return OutputPathError, f"the folder '{folder}' is not writable; choose another folder"
         return None
     if folder.exists():
         return OutputExistsError, f"'{folder}' is a file, not a folder; choose another path"
@@ -66,33 +96,59 @@ def _blocked(folder: Path):
 def make_folder(folder) -> Path:
     """Create the output ``folder`` itself (never missing folders above it), or say why not.
 
-    Raises OutputPathError when the folder above is missing, OutputExistsError
-    when a file stands in the way.
+    Raises OutputPathError when the folder above is missing or a folder is not
+    writable, OutputExistsError when a file or a symlink stands in the way.
     """
     folder = Path(folder)
-    if folder.is_dir():
-        return folder
-    blocked = _blocked(folder.parent) or (_blocked(folder) if folder.exists() else None)
+    if folder.is_symlink() and not folder.is_dir():
+        raise OutputExistsError(f"Cannot write into '{folder}': it is a symbolic link to no folder; "
+                                "remove it or choose another path.")
+    blocked = _blocked(folder) if folder.is_dir() else (
+        _blocked(folder.parent) or (_blocked(folder) if folder.exists() else None))
     if blocked:
         error, reason = blocked
         raise error(f"Cannot write into '{folder}': {reason}.")
-    folder.mkdir()
+    if not folder.is_dir():
+        folder.mkdir()
     return folder
 
 
-def check_target(path, *, force: bool = False) -> None:
-    """Refuse, before any work, an output file that cannot be written (None is skipped).
+def _same_file(path: Path, other) -> bool:
+    """Whether ``path`` names the file ``other`` (same real path, or os.path.samefile)."""
+    try:
+        other = Path(other)
+        if path.resolve() == other.resolve():
+            return True
+        return path.exists() and other.exists() and os.path.samefile(path, other)
+    except (OSError, ValueError):
+        return False
 
-    A folder at ``path``, a missing folder or a file above it: refused whatever
-    ``force`` says (a folder is never created silently); an existing file:
-    refused unless ``force``.
+
+def check_target(path, *, force: bool = False, inputs=()) -> None:
+    """Refuse, before any work, an output file that cannot or must not be written (None is skipped).
+
+    Refused whatever ``force`` says: one of ``inputs`` (compared by real path),
+    a symbolic link (even a dangling one), anything there that is not a
+    regular file (a folder, a FIFO, a device), a missing or read-only folder
+    or a file above it (a folder is never created silently).  An existing
+    regular file is refused unless ``force``.
     """
     if path is None:
         return
     path = Path(path)
+    for given in inputs:
+        if _same_file(path, given):
+            raise OutputExistsError(f"Output '{path}' is also an input ('{given}'); "
+                                    "an input is never overwritten, so choose another name.")
+    if path.is_symlink():
+        raise OutputExistsError(f"Output '{path}' is a symbolic link; rheofit does not write through "
+                                "or over links, so remove it or choose another name.")
     if path.is_dir():
         raise OutputExistsError(f"Output '{path}' is a folder; give the name of a file to write in it, "
                                 f"e.g. '{path / 'results.json'}'.")
+    if path.exists() and not path.is_file():
+        raise OutputExistsError(f"Output '{path}' exists and is not a regular file (a device, pipe or "
+                                "socket); rheofit never replaces one, so choose another name.")
     blocked = _blocked(path.parent)
     if blocked:
         error, reason = blocked
@@ -102,33 +158,74 @@ def check_target(path, *, force: bool = False) -> None:
 
 
 def refuse_existing(*paths) -> None:
-    """Raise OutputExistsError naming the first of ``paths`` that exists (None is skipped)."""
+    """Raise OutputExistsError naming the first of ``paths`` that exists, a dangling link included
+    (None is skipped)."""
     for path in paths:
-        if path is not None and Path(path).exists():
+        if path is not None and os.path.lexists(path):
             raise OutputExistsError(
                 f"Output file '{path}' already exists; choose another name or pass --force to overwrite it."
             )
 
 
-def write_atomic(path, data: str | bytes, *, force: bool = False) -> Path:
-    """Write ``data`` to ``path`` via a temporary file in the same folder and a rename.
+def partial_name(path) -> Path:
+    """The temp file beside ``path`` while it is written: ``<name>.rheofit-partial-<pid>``."""
+    path = Path(path)
+    return path.with_name(f"{path.name}{PARTIAL}{os.getpid()}")
 
-    A reader never sees a half-written file, and an existing file is replaced
-    only when ``force`` is true (otherwise OutputExistsError); the folder must
-    exist (see :func:`check_target`).
+
+def _write_temp(tmp: Path, data: str | bytes) -> None:
+    if os.path.lexists(tmp) and tmp.is_file() and not tmp.is_symlink():
+        tmp.unlink()  # our own leftover from a run with the same process id
+    fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666)  # the umask gives the usual permissions
+    mode = "wb" if isinstance(data, bytes) else "w"
+    with os.fdopen(fd, mode, **({} if mode == "wb" else {"encoding": "utf-8"})) as handle:
+        handle.write(data)
+        handle.flush()
+        os.fsync(handle.fileno())
+
+
+def write_atomic(path, data: str | bytes, *, force: bool = False, inputs=()) -> Path:
+    """Write ``data`` to ``path`` via a temp file in the same folder and a rename.
+
+    A reader never sees a half-written file; the target is checked by
+    :func:`check_target` (``force`` and ``inputs`` as there).  The temp file
+    (see :func:`partial_name`) is removed on every exit Python sees, Ctrl-C
+    included.  Inside :func:`staged` the rename waits for the end of the block.
     """
     path = Path(path)
-    check_target(path, force=force)
-    mode = "wb" if isinstance(data, bytes) else "w"
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    check_target(path, force=force, inputs=inputs)
+    tmp = partial_name(path)
     try:
-        with os.fdopen(fd, mode, **({} if mode == "wb" else {"encoding": "utf-8"})) as handle:
-            handle.write(data)
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give the usual permissions
+        _write_temp(tmp, data)
+        if _STAGED is not None:
+            _STAGED.append((tmp, path, force, tuple(inputs)))
+            return path
+        check_target(path, force=force, inputs=inputs)  # nothing took its place meanwhile
         os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+    finally:
+        if _STAGED is None or not any(t == tmp for t, *_ in _STAGED):
+            tmp.unlink(missing_ok=True)
     return path
+
+
+@contextlib.contextmanager
+def staged():
+    """Hold every :func:`write_atomic` in the block as a temp file and rename them all at its end.
+
+    A run stopped inside the block leaves none of its outputs (so a plain rerun
+    is not blocked by half of them) and, on any exit Python sees, no temp file.
+    """
+    global _STAGED
+    outer, _STAGED = _STAGED, []
+    pending = _STAGED
+    try:
+        yield
+        _STAGED = outer
+        for tmp, path, force, inputs in pending:
+            check_target(path, force=force, inputs=inputs)
+        for tmp, path, *_ in pending:
+            os.replace(tmp, path)
+    finally:
+        _STAGED = outer
+        for tmp, *_ in pending:
+            tmp.unlink(missing_ok=True)

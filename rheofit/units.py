@@ -268,6 +268,19 @@ def parse_quantity(value, kind: str, name: str | None = None) -> float:
     return parse_typed(value, kind, name or kind.replace("_", " "), positive=False)
 
 
+def counting_number(text) -> int | None:
+    """A whole number written in ASCII digits ('3', ' 12 ') -> int, else None.
+
+    ``str.isdigit`` is also true for '²', '①' or '¹', which ``int`` refuses;
+    only 0-9 count here.
+
+    >>> counting_number(" 12 "), counting_number("²"), counting_number("①"), counting_number("-1")
+    (12, None, None, None)
+    """
+    text = str(text).strip()
+    return int(text) if text and text.isascii() and text.isdigit() else None
+
+
 def parse_tolerance(value, label: str = "tolerance") -> float:
     """A relative tolerance [-]: '10%', '10 %', or a fraction below 1 ('0.1', 0.1) -> 0.1.
 

@@ -24,7 +24,7 @@ from rheofit.cli import app
 from rheofit.cli.options import QUANTITIES
 from test_error_paths import error_sentence
 
-SAMPLES = Path(__file__).resolve().parent.parent / "sample_data"
+SAMPLES = Path(__file__).resolve().parent.parent / "rheofit" / "sample_data"
 runner = CliRunner()
 
 # Source: IAPWS (2008) viscosity formulation (Huber et al. 2009, J. Phys. Chem. Ref.
@@ -68,7 +68,7 @@ def test_a_bare_tolerance_above_one_is_refused():
 @pytest.mark.parametrize("tolerance", ["10%", "10 %", "0.1", "0,1"])
 def test_every_accepted_tolerance_spelling_means_ten_percent(tolerance):
     # 1 % = 0.01 (BIPM SI Brochure, 9th ed. (2019), sec. 5.4.7; section from memory).  Lot C was
-    # mixed with too little water, about 45 % more viscous at rest (sample_data/README.md), so at
+    # mixed with too little water, about 45 % more viscous at rest (rheofit/sample_data/README.md), so at
     # 10 % it must fail; read as 1000 % (the old reading of '10') it passed.
     result = run("compare", SAMPLES / "medium_lot_A.csv", SAMPLES / "medium_lot_C.csv", "-t", tolerance, "--json")
     assert result.exit_code == 0, result.output

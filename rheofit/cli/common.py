@@ -24,9 +24,9 @@ def console(stderr: bool = False):
 
 def error_line(message: str) -> None:
     """Print one error sentence on stderr (literally: no markup) and exit with code 2."""
-    from rich.markup import escape
+    from rheofit.report.display import markup_safe
 
-    console(stderr=True).print(f"[bold red]error:[/] {escape(message)}", highlight=False)
+    console(stderr=True).print(f"[bold red]error:[/] {markup_safe(message)}", highlight=False)
     raise typer.Exit(2)
 
 
@@ -48,13 +48,15 @@ def user_errors(command):
     return wrapper
 
 
-def emit_json(document: dict, out: Optional[Path], force: bool) -> None:
+def emit_json(document: dict, out: Optional[Path], force: bool, inputs=()) -> None:
     from rheofit.output import write_atomic
 
     text = json.dumps(document, indent=2)
     if out is not None:
-        write_atomic(out, text + "\n", force=force)
-        console(stderr=True).print(f"saved {out}")
+        write_atomic(out, text + "\n", force=force, inputs=inputs)
+        from rheofit.report.display import markup_safe
+
+        console(stderr=True).print(f"saved {markup_safe(out)}")
     else:
         sys.stdout.write(text + "\n")
 
@@ -95,10 +97,17 @@ def import_keywords(columns: Optional[list[str]], units: Optional[list[str]], cu
                 raise ParameterError(f"{option} '{pair}' should read ROLE=VALUE, e.g. {option} viscosity=...")
             if role not in ROLES:
                 raise ParameterError(choice_message(f"{option} role", role, ROLES))
-            keywords[f"{role}_{suffix}"] = int(value) if suffix == "column" and value.isdigit() else value
+            keywords[f"{role}_{suffix}"] = _number_or_text(value) if suffix == "column" else value
     if curve is not None:
-        keywords["curve"] = int(curve) if curve.strip().isdigit() else curve
+        keywords["curve"] = _number_or_text(curve)
     return keywords
+
+
+def _number_or_text(text: str):
+    from rheofit.units import counting_number
+
+    number = counting_number(text)
+    return text if number is None else number
 
 
 def read_curves(path, keywords: dict) -> list:

@@ -20,12 +20,14 @@ from rheofit.cli.options import COLUMN, CURVE, DIAMETER, FLOW_RATE, GAP, LENGTH,
 def pick_reference(text: str, labels) -> int:
     """--reference: a lot number counted from 1, or a lot name -> index from 0."""
     from rheofit.errors import ParameterError, choice_message
+    from rheofit.units import counting_number
 
     if text in labels:
         return labels.index(text)
-    if text.strip().isdigit() and 1 <= int(text) <= len(labels):
-        return int(text) - 1
-    if text.strip().isdigit():
+    number = counting_number(text)
+    if number is not None and 1 <= number <= len(labels):
+        return number - 1
+    if number is not None:
         raise ParameterError(
             f"--reference {text} is not a lot: give a number from 1 to {len(labels)} "
             f"(in the order the lots were read) or a lot name."
@@ -37,11 +39,13 @@ def read_lots(files, console, keywords: dict) -> list:
     """Every curve of every file (as ``keywords`` ask), in order (each curve is a lot), with progress."""
     from rich.progress import Progress
 
+    from rheofit.report.display import markup_safe
+
     curves = []
     with Progress(console=console, transient=True) as bar:
         task = bar.add_task("reading", total=len(files))
         for path in files:
-            bar.update(task, description=f"reading {Path(path).name}")
+            bar.update(task, description=f"reading {markup_safe(Path(path).name)}")
             curves += read_curves(path, keywords)
             bar.advance(task)
     return curves
@@ -52,25 +56,26 @@ def run_comparison(curves, console, **options):
     from rich.progress import Progress
 
     from rheofit.lots import compare
+    from rheofit.report.display import markup_safe
 
     steps = len(curves) * (2 if options.get("geometry") is not None else 1) + 1
     with Progress(console=console, transient=True) as bar:
         task = bar.add_task("comparing", total=steps)
 
         def step(message):
-            bar.update(task, description=message)
+            bar.update(task, description=markup_safe(message))
             bar.advance(task)
 
         return compare(curves, progress=step, **options)
 
 
-def _write(out: Path, comparison, force: bool) -> None:
-    from rheofit.output import write_atomic
+def _write(out: Path, comparison, force: bool, inputs) -> None:
+    from rheofit.output import csv_text, write_atomic
 
     if out.suffix.lower() == ".csv":
-        write_atomic(out, comparison.table.to_csv(index=False), force=force)
+        write_atomic(out, csv_text(comparison.table), force=force, inputs=inputs)
     else:
-        write_atomic(out, json.dumps(comparison.to_dict(), indent=2) + "\n", force=force)
+        write_atomic(out, json.dumps(comparison.to_dict(), indent=2) + "\n", force=force, inputs=inputs)
 
 
 # --- the command -------------------------------------------------------------------------------
@@ -102,13 +107,14 @@ def compare_command(
     from rheofit.lots import lot_labels
     from rheofit.errors import ParameterError
     from rheofit.output import check_target
+    from rheofit.report.display import markup_safe
     from rheofit.units import parse_tolerance
     from rheofit.models import get_model
 
     typed = quantities(diameter=diameter, gap=gap, width=width, length=length, flow_rate=flow_rate,
                        pressure_drop=pressure_drop)
     keywords = import_keywords(column, unit, curve, segment)
-    check_target(out, force=force)
+    check_target(out, force=force, inputs=files)
     fraction = parse_tolerance(tolerance, "--tolerance")
     model = None if model is None else get_model(model).name
     if all(value is None for value in typed.values()):  # the curves alone are compared
@@ -130,5 +136,5 @@ def compare_command(
     else:
         Console().print(comparison_block(comparison))
     if out is not None:
-        _write(out, comparison, force)
-        status.print(f"saved {out}")
+        _write(out, comparison, force, files)
+        status.print(f"saved {markup_safe(out)}")

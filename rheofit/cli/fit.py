@@ -17,13 +17,14 @@ def fit_files(files, model: str, overrides: Optional[dict] = None):
     from rheofit.fitting import fit_all
     from rheofit.fitting.support import choose
     from rheofit.models import get_model
+    from rheofit.report.display import markup_safe
 
     chosen = None if model == "all" else get_model(model).name
     groups = []
     with console(stderr=True).status("reading") as status:  # shown on a terminal only
         for path in files:
             for curve in read_curves(path, overrides or {}):
-                status.update(f"fitting {curve.name} ({len(groups) + 1} so far)")
+                status.update(f"fitting {markup_safe(curve.name)} ({len(groups) + 1} so far)")
                 ranking = fit_all(curve)  # also for one model: its weight among the others
                 results = ranking if chosen is None else [choose(ranking, chosen)]
                 groups.append((curve, results))
@@ -47,11 +48,11 @@ def fit_command(
 
     from rheofit.output import check_target
 
-    check_target(out, force=force)
+    check_target(out, force=force, inputs=files)
     groups = fit_files(files, model, import_keywords(column, unit, curve, segment))
     document = fits_document(groups)
     if as_json:
-        emit_json(document, out, force)
+        emit_json(document, out, force, files)
         return
     from rheofit.report.console import curve_block, summary_table
 
@@ -61,4 +62,4 @@ def fit_command(
     if len(groups) > 1:
         screen.print(summary_table(groups))
     if out is not None:
-        emit_json(document, out, force)
+        emit_json(document, out, force, files)

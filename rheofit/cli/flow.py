@@ -35,6 +35,7 @@ def flow_command(
 ):
     """Predict pressure drop or flow rate, wall shear and velocity profile in a tube or slit."""
     from rheofit.flow import predict
+    from rheofit.report.display import markup_safe
 
     typed = quantities(diameter=diameter, gap=gap, width=width, length=length, flow_rate=flow_rate,
                        pressure_drop=pressure_drop, density=density, newtonian_viscosity=newtonian_viscosity)
@@ -47,7 +48,7 @@ def flow_command(
     point = operating_point(typed["flow_rate"], typed["pressure_drop"])
     if typed["density"] is not None:
         point["density"] = typed["density"]
-    with console(stderr=True).status(f"fitting {source.name}"):  # shown on a terminal only
+    with console(stderr=True).status(f"fitting {markup_safe(source.name)}"):  # shown on a terminal only
         result = load_source(source, model, keywords)
     with console(stderr=True).status("solving the flow and its 95 % interval"):
         prediction = predict(result, geometry, newtonian_viscosity=typed["newtonian_viscosity"], **point)

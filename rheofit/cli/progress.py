@@ -5,6 +5,7 @@ from __future__ import annotations
 from contextlib import contextmanager
 
 from rheofit.progress import Steps
+from rheofit.report.display import markup_safe
 
 
 class RichSteps(Steps):
@@ -17,7 +18,7 @@ class RichSteps(Steps):
 
     def begin(self, description: str, total: int) -> None:
         self.finish()
-        self._stage = description
+        self._stage = description = markup_safe(description)
         self._task = self._progress.add_task(description, total=max(int(total), 1))
 
     def finish(self) -> None:
@@ -30,12 +31,12 @@ class RichSteps(Steps):
         if self._task is None:
             return
         if description is not None:
-            self._progress.update(self._task, description=description)
+            self._progress.update(self._task, description=markup_safe(description))
         self._progress.advance(self._task)
 
     def note(self, description: str) -> None:
         if self._task is not None:
-            self._progress.update(self._task, description=description)
+            self._progress.update(self._task, description=markup_safe(description))
 
 
 @contextmanager

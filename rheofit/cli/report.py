@@ -76,11 +76,12 @@ def report_command(
     from rheofit.output import check_target, make_folder
     from rheofit.report.html import write_report
     from rheofit.cli.progress import rich_steps
+    from rheofit.report.display import visible
 
     typed = quantities(diameter=diameter, gap=gap, width=width, length=length, flow_rate=flow_rate,
                        pressure_drop=pressure_drop, density=density)
     keywords = import_keywords(column, unit, curve, segment)
-    check_target(out, force=force)
+    check_target(out, force=force, inputs=files)
     if figures is not None:
         make_folder(figures)
     model = None if model is None else get_model(model).name
@@ -89,12 +90,15 @@ def report_command(
     curves = _read_curves(files, keywords)  # before the progress display, so an error stands alone
     with rich_steps() as steps:
         analysis = analyse(curves, model=model, cases=[case] if case else [], density=rho, steps=steps)
-        path = write_report(out, analysis, figures_dir=figures, force=force, steps=steps)
+        path = write_report(out, analysis, figures_dir=figures, force=force, steps=steps,
+                            inputs=files)
     for line in analysis.warnings():  # before anything else: the report's numbers rest on these
-        _stdout().print(f"WARNING: {line}", style="bold red", highlight=False, markup=False, soft_wrap=True)
+        _stdout().print(f"WARNING: {visible(line)}", style="bold red", highlight=False, markup=False,
+                        soft_wrap=True)
     where = f"; figures in {figures}" if figures is not None else ""
-    _stdout().print(f"Report written to {path} ({len(analysis.samples)} sample(s){where}).", highlight=False)
-    notes = [f"  • {c.name}: {flag.message}" for c in curves for flag in c.flags]
+    _stdout().print(f"Report written to {visible(path)} ({len(analysis.samples)} sample(s){visible(where)}).",
+                    highlight=False, markup=False)
+    notes = [f"  • {visible(c.name)}: {visible(flag.message)}" for c in curves for flag in c.flags]
     if notes:  # what the importer noticed is worth a word before the report is opened
         _stdout().print("Flags from reading the files (also in the report):\n" + "\n".join(notes),
                         highlight=False, markup=False)

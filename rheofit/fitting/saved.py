@@ -6,6 +6,7 @@ import json
 from pathlib import Path
 
 from rheofit.errors import InputFileError, ModelNameError, spelled
+from rheofit.units import counting_number
 
 KIND = "rheofit-fits"
 VERSION = 1
@@ -71,8 +72,9 @@ def _pick_curve(path: Path, curves: list, curve) -> dict:
             f"{spelled('curve=N', '--curve N')}."
         )
     text = str(curve).strip()
-    if text.isdigit() and 1 <= int(text) <= len(curves):
-        return curves[int(text) - 1]
+    number = counting_number(text)
+    if number is not None and 1 <= number <= len(curves):
+        return curves[number - 1]
     for entry in curves:
         if str(entry.get("name", "")).strip().lower() == text.lower():
             return entry

@@ -2,7 +2,8 @@
 
 The draws and the rule that turns evaluated draws into an interval are those
 of :mod:`rheofit.fitting.draws` (its docstring gives the method and its
-sources); this module solves the flow for every draw.  Used by
+sources); this module solves the flow for every draw, all draws and
+operating points in one vectorised solve (:func:`rheofit.flow.engine.solve_sets`).  Used by
 :func:`rheofit.flow.predict` and :func:`rheofit.flow.curves.operating_curve`.
 
 Units: pressure [Pa], flow rate [m^3/s], wall shear stress [Pa], wall shear rate [1/s].
@@ -15,7 +16,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from rheofit.curve import Flag
-from rheofit.errors import RheofitError
 from rheofit.fitting.draws import (
     DEFAULT_SAMPLES, DEFAULT_SEED, FAILED_SHARE, LEVEL, ParameterDraws, check_level, interval_from,
     parameter_draws, require_fit, unreliable_paths,
@@ -53,23 +53,23 @@ def _solve(fluid, geometry, given, values, method):
 
 
 def _evaluate(draws: ParameterDraws, rows, geometry, given, values, method):
-    """Solved quantities for every parameter row: {name: (R, M)} and a failed mask."""
+    """Solved quantities for every parameter row: {name: (R, M)} and a failed mask.
+
+    All rows in one vectorised solve (:func:`rheofit.flow.engine.solve_sets`).
+    A draw whose flow curve cannot carry the wall stress or the flow rate at
+    some point, or that falls again at high shear, has no laminar solution
+    there: it comes back NaN and is marked failed, not fatal.
+    """
     rows = np.atleast_2d(rows)
     out = {name: np.full((rows.shape[0], values.size), np.nan) for name in _QUANTITIES}
-    failed = np.zeros(rows.shape[0], dtype=bool)
-    for i, fluid in enumerate(draws.fluids(rows) if rows.shape[0] else ()):
-        try:
-            state = _solve(fluid, geometry, given, values, method)
-        except RheofitError:  # e.g. a draw whose flow curve cannot carry the wall stress
-            failed[i] = True
-            continue
-        solved = np.stack([getattr(state, name) for name in _QUANTITIES])
-        if not np.all(np.isfinite(solved) & (solved >= 0)):
-            # a flow curve that falls again at high shear has no laminar solution there
-            failed[i] = True
-            continue
-        for name in _QUANTITIES:
-            out[name][i] = getattr(state, name)
+    if rows.shape[0] == 0:
+        return out, np.zeros(0, dtype=bool)
+    state = engine.solve_sets(draws.fit.declaration, draws.values(rows), geometry, given, values, method)
+    solved = np.stack([getattr(state, name) for name in _QUANTITIES])
+    with np.errstate(invalid="ignore"):
+        failed = ~np.all(np.isfinite(solved) & (solved >= 0), axis=(0, 2))
+    for name in _QUANTITIES:
+        out[name][~failed] = getattr(state, name)[~failed]
     return out, failed
 
 
@@ -94,7 +94,8 @@ def flow_intervals(fit, geometry, flow_rate=None, pressure_drop=None, *,
 
     Give ``flow_rate`` [m^3/s] or ``pressure_drop`` [Pa] (1-D float arrays,
     already checked by the caller).  The central values are solved again
-    from the estimate; each draw is one vectorised solve over all points.
+    from the estimate; the draws are one vectorised solve over all draws and
+    points (and the profile points another).
     """
     require_fit(fit, "A prediction interval")
     level = check_level(level)

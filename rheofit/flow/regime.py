@@ -37,9 +37,12 @@ from rheofit.flow import engine
 RYAN_JOHNSON_Z = 808.0
 #: Newtonian critical Reynolds number the slit threshold is calibrated to (common practice, no source)
 NEWTONIAN_CRITICAL_REYNOLDS = 2100.0
-#: above this many points Z_max/Re is interpolated from this many exact evaluations
-_TABLE_POINTS = 48
+#: search grids of the profile's maximum (coarse, then finer ones)
 _COARSE, _FINE = 32, 9
+#: up to this many points Z_max/Re is evaluated exactly; beyond, interpolated on a
+#: lattice in ln gd_w of this step
+_EXACT_POINTS = 48
+_STEP = 0.125
 
 
 def reynolds_number(geometry, density, flow_rate, wall_shear_stress):
@@ -102,51 +105,119 @@ def criterion(fluid, geometry) -> str:
     return _CRITERION_TEXT[geometry.kind].format(source=source)
 
 
-def _max_product(rheology, half_size, tau_w, g, plug):
-    """max of u |du/dr| over the sheared layer [m^2/s^2], per point.
+def _max_product(rheology, tau_w, g):
+    """max of (u/R) s over the sheared layer [1/s^2], per point (R: the half size).
 
-    A grid of 31 positions, then five finer grids of 9 around the best one,
-    then the vertex of the parabola through the best three.
+    Searched over the local shear rate s = t gd_w, t in [0, 1] (the profile
+    by its shear rate, :func:`rheofit.flow.engine.profile_by_shear_rate`: no
+    inverse of the flow curve): a grid of 31 values of t, then five finer
+    grids of 9 around the best one, then the vertex of the parabola through
+    the best three.  In t the product is smooth for every model (a power law
+    gives t (1 - t^(1+n)) up to a factor).
     """
-    step = (1.0 - plug) / _COARSE
-    x = plug[:, None] + step[:, None] * np.arange(1, _COARSE)[None, :]
-    rows = np.arange(x.shape[0])
+    step = np.full(g.shape, 1.0 / _COARSE)
+    t = step[:, None] * np.arange(1, _COARSE)[None, :]
+    rows = np.arange(t.shape[0])
     for _ in range(6):
-        u, s = engine.profile_parts(rheology, half_size, tau_w, g, x)
-        y = u * s
-        best = x[rows, np.argmax(y, axis=1)]
-        x = np.clip(best[:, None] + step[:, None] * np.linspace(-1, 1, _FINE)[None, :], plug[:, None], 1.0)
+        y = engine.profile_by_shear_rate(rheology, tau_w, g, t * g[:, None]) * t
+        best = t[rows, np.argmax(y, axis=1)]
+        t = np.clip(best[:, None] + step[:, None] * np.linspace(-1, 1, _FINE)[None, :], 0.0, 1.0)
         step = step * 2.0 / (_FINE - 1)
     k = np.clip(np.argmax(y, axis=1), 1, y.shape[1] - 2)
     y0, y1, y2 = y[rows, k - 1], y[rows, k], y[rows, k + 1]
     curvature = y2 - 2.0 * y1 + y0
     with np.errstate(divide="ignore", invalid="ignore"):
         vertex = np.where(curvature < 0, y1 - (y2 - y0) ** 2 / (8.0 * curvature), y1)
-    return np.maximum(vertex, y.max(axis=1))
+    return np.maximum(vertex, y.max(axis=1)) * g
 
 
-def _stability_ratio(rheology, geometry, tau_w, g, q):
-    """Z_max / Re [-] for flowing points (exact evaluation)."""
-    plug = np.minimum(rheology.yield_stress / tau_w, 1.0)
-    product = _max_product(rheology, geometry.half_size, tau_w, g, plug)
+def _shape(rheology, power, g, tau_w=None):
+    """ln(P / q_k^2) [-] at wall shear rates g [1/s] (exact evaluation; tau_w [Pa] if known).
+
+    P = max (u/R) s of the profile and q_k = Q / flow_scale: with V = R q_k / k
+    and gd_app = (k + 1) q_k / k, Z_max / Re = R^2 P / (V D_h gd_app) holds
+    the geometry only through R, D_h and k, and P / q_k^2 is flat wherever the
+    flow curve is a power law (then P and q_k^2 both go as gd_w^2).
+    """
+    tau_w = rheology.stress(g) if tau_w is None else tau_w
+    qk = engine.flow_integral(rheology, g, tau_w, power)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.log(_max_product(rheology, tau_w, g) / qk**2)
+
+
+class _ShapeTable:
+    """ln(P / q_k^2) of one fluid and one k: exact values by wall shear rate, computed once.
+
+    Up to _EXACT_POINTS points are evaluated exactly; more are interpolated
+    from the lattice ln gd_w = j * _STEP (4-point Lagrange in ln gd_w), whose
+    nodes are exact values too.  Both kinds are kept, so no wall shear rate
+    is evaluated twice for the same fluid.
+    """
+
+    #: values kept per fluid and k before the store starts again
+    _KEEP = 20_000
+
+    def __init__(self):
+        self.values: dict[float, float] = {}
+
+    def _exact(self, rheology, power, g, tau_w=None):
+        """Exact values at g [1/s] (known ones looked up, the others evaluated and kept)."""
+        missing = np.array([x for x in np.unique(g).tolist() if x not in self.values])
+        if missing.size:
+            if len(self.values) + missing.size > self._KEEP:
+                self.values.clear()
+            known = None if tau_w is None else dict(zip(g.tolist(), tau_w.tolist()))
+            stress = None if known is None else np.array([known[x] for x in missing.tolist()])
+            self.values.update(zip(missing.tolist(), _shape(rheology, power, missing, stress).tolist()))
+        return np.array([self.values[x] for x in g.tolist()])
+
+    def at(self, rheology, power, tau_w, g):
+        """ln(P / q_k^2) at wall shear stresses tau_w [Pa] and rates g [1/s]."""
+        if np.unique(g).size <= _EXACT_POINTS:
+            return self._exact(rheology, power, g, tau_w)
+        x = np.log(g) / _STEP
+        i = np.floor(x)
+        stencil = i[:, None] + np.arange(-1.0, 3.0)[None, :]
+        nodes = np.exp(stencil * _STEP)
+        y = self._exact(rheology, power, nodes.ravel()).reshape(nodes.shape)
+        t = x - i
+        weights = np.stack([-t * (t - 1) * (t - 2) / 6, (t + 1) * (t - 1) * (t - 2) / 2,
+                            -(t + 1) * t * (t - 2) / 2, (t + 1) * t * (t - 1) / 6], axis=1)
+        out = np.sum(weights * y, axis=1)
+        # stencils that reach beyond the rising flow curve (or overflow): the point itself
+        bad = ~(np.all(np.isfinite(y), axis=1) & (np.log(nodes[:, -1]) < rheology.rising_limit))
+        if bad.any():
+            out[bad] = self._exact(rheology, power, g[bad], tau_w[bad])
+        return out
+
+
+#: the stability shape of recently used fluids, one lattice table per fluid and k
+SHAPES = engine.FluidMemo()
+
+
+def _stability_ratio(fluid, rheology, geometry, tau_w, g, q):
+    """Z_max / Re [-] for flowing points, from the fluid's table (see :class:`_ShapeTable`)."""
+    power = geometry.stress_power
+    shape = SHAPES.get(fluid, power, _ShapeTable).at(rheology, power, tau_w, g)
+    qk = q / geometry.flow_scale
     v = q / geometry.area
-    return geometry.half_size * product / (v * geometry.hydraulic_diameter * geometry.apparent_wall_shear_rate(q))
-
-
-def _state_at(rheology, geometry, g):
-    tau_w = rheology.stress(g)
-    q = geometry.flow_scale * engine.flow_integral(rheology, g, tau_w, geometry.stress_power)
-    return tau_w, q
+    return geometry.half_size**2 * np.exp(shape) * qk**2 / (
+        v * geometry.hydraulic_diameter * geometry.apparent_wall_shear_rate(q))
 
 
 def critical_reynolds(fluid, geometry, wall_shear_stress, wall_shear_rate, flow_rate):
     """Critical generalised Reynolds number per operating point [-]; NaN where nothing flows.
 
     Re_crit = Z_c Re / Z_max (Ryan & Johnson 1959; Hanks 1963), with the
-    profile of each point.  Beyond 48 points, Z_max/Re is interpolated
-    (cubic spline of ln(Z_max/Re) over ln gd_w) from 48 exact evaluations over the range.
+    profile of each point.  Z_max / Re depends on the fluid, the geometry's
+    kind (k) and its size only through R^2 / (V D_h gd_app), so its profile
+    part ln(P / q_k^2) is computed once per fluid and k for each wall shear
+    rate and kept (:data:`SHAPES`).  Up to 48 points are evaluated exactly;
+    beyond, the values are interpolated (4-point Lagrange in ln gd_w) from a
+    lattice of exact values with step 1/8 (before: a cubic spline through
+    48 exact values over the points' range).
     """
-    rheology = engine.Rheology(fluid)
+    rheology = engine.rheology_of(fluid)
     tau_w = np.asarray(wall_shear_stress, float)
     g = np.asarray(wall_shear_rate, float)
     q = np.asarray(flow_rate, float)
@@ -154,18 +225,8 @@ def critical_reynolds(fluid, geometry, wall_shear_stress, wall_shear_rate, flow_
     flowing = (g > 0) & (q > 0)
     if not flowing.any():
         return out
-    gf = g[flowing]
-    lo, hi = float(gf.min()), float(gf.max())
-    if gf.size <= _TABLE_POINTS or hi / lo < 1.0 + 1e-9:
-        ratio = _stability_ratio(rheology, geometry, tau_w[flowing], gf, q[flowing])
-    else:
-        from scipy.interpolate import CubicSpline
-
-        nodes = np.geomspace(lo, hi, _TABLE_POINTS)
-        tn, qn = _state_at(rheology, geometry, nodes)
-        table = _stability_ratio(rheology, geometry, tn, nodes, qn)
-        ratio = np.exp(CubicSpline(np.log(nodes), np.log(table))(np.log(gf)))
-    out[flowing] = stability_threshold(geometry) / ratio
+    out[flowing] = stability_threshold(geometry) / _stability_ratio(
+        fluid, rheology, geometry, tau_w[flowing], g[flowing], q[flowing])
     return out
 
 

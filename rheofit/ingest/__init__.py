@@ -22,7 +22,9 @@ What is read
   hysteresis between them is flagged.
 
 Rows stay in the order measured; :func:`sorted_by_shear_rate` gives the
-sorted view.  Files are opened read-only.  Every problem ends in one
+sorted view.  Large blocks are converted by pandas' C reader
+(:mod:`rheofit.ingest.bulk`); what is read, and every message, is the
+same as row by row.  Files are opened read-only.  Every problem ends in one
 :class:`~rheofit.errors.InputFileError` (or :class:`~rheofit.errors.UnitError`)
 sentence naming the file, the line (counted from 1, as an editor shows it)
 and the column.
@@ -42,7 +44,9 @@ from rheofit.ingest.build import Context, Draft, block_drafts
 from rheofit.ingest.columns import ROLES, assign_roles, make_columns
 from rheofit.ingest.dialect import Dialect, sniff
 from rheofit.ingest.layout import Block, Layout, find_layout, no_table
+from rheofit.ingest.lines import Lines
 from rheofit.ingest.source import read_lines
+from rheofit.units import counting_number
 from rheofit.ingest.sweep import check_segment, keep_segment
 from rheofit.ingest.table import Cells
 
@@ -96,14 +100,11 @@ def read_flow_curves(
     columns = dict(zip(ROLES, (shear_rate_column, viscosity_column, stress_column, temperature_column)))
     units = dict(zip(ROLES, (shear_rate_unit, viscosity_unit, stress_unit, temperature_unit)))
     lines, encoding = read_lines(path, shown)
-    dialect = sniff(lines)
-    if dialect is None:
-        raise no_table(lines, shown, columns)
-    layout = find_layout(lines, dialect, columns, shown)
-    drafts = []
-    for number, block in enumerate(layout.blocks, start=1):
-        details = {"encoding": encoding, "delimiter": dialect.name, "decimal": dialect.decimal}
-        drafts += _block_drafts(lines, layout, block, number, dialect, columns, units, details, shown)
+    try:
+        drafts = _file_drafts(lines, encoding, columns, units, shown)
+    finally:
+        lines.close()
+    del lines  # its index of the file is as large as the numbers
     return [keep_segment(curve, segment, shown) for curve in _finish(drafts, name or path.stem, shown)]
 
 
@@ -141,7 +142,20 @@ def sorted_by_shear_rate(curve: FlowCurve) -> FlowCurve:
                    stress=curve.stress[order], segment=segment)
 
 
-def _block_drafts(lines, layout: Layout, block: Block, number: int, dialect: Dialect,
+def _file_drafts(lines: Lines, encoding: str, columns: dict, units: dict, shown: str) -> list[Draft]:
+    """Draft curves of every block of the file, in order."""
+    dialect = sniff(lines)
+    if dialect is None:
+        raise no_table(lines, shown, columns)
+    layout = find_layout(lines, dialect, columns, shown)
+    drafts = []
+    for number, block in enumerate(layout.blocks, start=1):
+        details = {"encoding": encoding, "delimiter": dialect.name, "decimal": dialect.decimal}
+        drafts += _block_drafts(lines, layout, block, number, dialect, columns, units, details, shown)
+    return drafts
+
+
+def _block_drafts(lines: Lines, layout: Layout, block: Block, number: int, dialect: Dialect,
                   columns, units, details, shown) -> list[Draft]:
     """Draft curves of one block, with the text around it as metadata."""
     cells = Cells(lines, block, dialect, shown)
@@ -225,8 +239,8 @@ def _pick(curves: list[FlowCurve], curve, shown: str) -> FlowCurve:
             label = _plain(c.metadata["import"]["curve"])
             if wanted in (label, _plain(c.name)) or wanted + "c" == label:  # "25" for "25 °C"
                 return c
-        if curve.strip().isdigit():
-            return _pick(curves, int(curve), shown)
+        if counting_number(curve) is not None:
+            return _pick(curves, counting_number(curve), shown)
     raise InputFileError(
         f"File '{shown}' has no curve {curve!r}: it holds {len(curves)} curve"
         f"{'s' if len(curves) > 1 else ''} ({_listing(curves)}), numbered from 1; pass one of those "

@@ -62,9 +62,10 @@ class Context:
 
 def block_drafts(cells: Cells, roles: dict[str, Column], context: Context) -> list[Draft]:
     """Draft curves of one block: one per label and temperature found in its rows."""
+    cells.plan([roles[role] for role in ROLES if role in roles], [roles["label"]] if "label" in roles else [])
     units, flags = _units(cells, roles, context)
     raw = {role: cells.numbers(roles[role]) for role in units}
-    si = {role: np.asarray(to_si(raw[role], units[role], UNIT_KINDS[role]), dtype=float) for role in units}
+    si = {role: _in_si(raw[role], units[role], role) for role in units}
     labels = _labels(cells, roles.get("label"))
     groups = _groups(labels, si.get("temperature"), len(cells))
     drafts = []
@@ -76,6 +77,17 @@ def block_drafts(cells: Cells, roles: dict[str, Column], context: Context) -> li
             parts["temperature"] = _celsius_label(context.temperature)
         drafts.append(_draft(index, raw, si, cells, roles, units, context, flags, parts))
     return drafts
+
+
+def _in_si(values: np.ndarray, unit: str, role: str) -> np.ndarray:
+    """``values`` converted to SI: the same array when ``unit`` is the SI unit.
+
+    (x * 1 + 0 is x, but for the sign of a zero, and no zero is kept as a point.)
+    """
+    kind = UNIT_KINDS[role]
+    if to_si(1.0, unit, kind) == 1.0 and to_si(0.0, unit, kind) == 0.0:
+        return values
+    return np.asarray(to_si(values, unit, kind), dtype=float)
 
 
 def _units(cells: Cells, roles, context: Context) -> tuple[dict[str, str], list[Flag]]:
@@ -161,9 +173,14 @@ def _labels(cells: Cells, column: Column | None) -> list[str] | None:
     return labels
 
 
-def _groups(labels, temperature, n: int) -> list[tuple[str | None, int, np.ndarray]]:
-    """(label, temperature cluster, row indices) per curve, in order of first appearance."""
-    clusters = _clusters(temperature) if temperature is not None else np.zeros(n, dtype=int)
+def _groups(labels, temperature, n: int) -> list[tuple[str | None, int, np.ndarray | slice]]:
+    """(label, temperature cluster, row indices) per curve, in order of first appearance.
+
+    A block that is one curve gets the slice of all its rows (no copies).
+    """
+    clusters = _clusters(temperature) if temperature is not None else np.zeros(n, dtype=np.int8)
+    if labels is None and not clusters.any():
+        return [(None, 0, slice(None))]
     if labels is None:
         label_codes, names = np.zeros(n, dtype=int), [None]
     else:
@@ -214,8 +231,9 @@ def _draft(index, raw, si, cells: Cells, roles, units, context: Context, flags, 
             f"{int(keep.sum())} usable points out of {keep.size} rows; a flow curve needs at least 3 "
             "points with a positive shear rate and a viscosity or stress."
         )
-    values = {role: v[keep] for role, v in values.items()}
-    lines = lines[keep]
+    if not keep.all():
+        values = {role: v[keep] for role, v in values.items()}
+        lines = lines[keep]
     shear_rate = values["shear_rate"]
     if "viscosity" in values:
         viscosity = values["viscosity"]

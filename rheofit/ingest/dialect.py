@@ -81,6 +81,21 @@ def is_missing(cell: str) -> bool:
     return cell.strip().lower() in MISSING
 
 
+def cell_value(cell: str, decimal: str = ".") -> float:
+    """The number in a data cell: NaN for a missing value; ValueError for text.
+
+    Quotes and spaces around the number and a typographic minus sign
+    (U+2212) are allowed; with ``decimal=","`` commas are decimal marks.
+    """
+    if decimal == ",":
+        cell = cell.replace(",", ".")
+    try:
+        return float(cell)
+    except ValueError:
+        cell = clean(cell).replace("\u2212", "-")  # typographic minus sign
+        return float("nan") if is_missing(cell) else float(cell)
+
+
 def numeric_cells(cells: list[str]) -> int:
     """How many cells are numbers; -1 when a cell is neither a number nor missing."""
     count = 0

@@ -19,33 +19,11 @@ import numpy as np
 from rheofit.errors import InputFileError
 from rheofit.ingest.columns import flow_roles_in, is_units_row
 from rheofit.ingest.dialect import Dialect, clean, is_number, numeric_cells
+from rheofit.ingest.lines import Lines
 
-_NUMERIC_BYTES = b"0123456789 \t.,;:|+-eE\"'\n\r"
 _TEXT = re.compile(r"[^\d\s.,;:|+\-eE\"']")
 _DIGIT = re.compile(r"\d")
 _NO_DIGITS = str.maketrans("", "", "0123456789")
-_TEXT_TABLE = np.ones(256, dtype=bool)
-_TEXT_TABLE[list(_NUMERIC_BYTES)] = False
-_DIGIT_TABLE = np.zeros(256, dtype=bool)
-_DIGIT_TABLE[list(b"0123456789")] = True
-
-
-@dataclass(frozen=True)
-class Scan:
-    """Per line: does it hold text (letters, symbols) and does it hold a digit."""
-
-    text: np.ndarray
-    digit: np.ndarray
-
-    @classmethod
-    def of(cls, lines: list[str]) -> "Scan":
-        """One vectorised pass over all bytes (fast on large exports)."""
-        data = ("\n".join(lines) + "\n").encode("utf-8", "surrogatepass")
-        codes = np.frombuffer(data, dtype=np.uint8)
-        starts = np.concatenate([[0], np.flatnonzero(codes == 10)[:-1] + 1])
-        text = np.logical_or.reduceat(_TEXT_TABLE[codes], starts)
-        digit = np.logical_or.reduceat(_DIGIT_TABLE[codes], starts)
-        return cls(text, digit)
 
 
 @dataclass
@@ -57,7 +35,7 @@ class Block:
     units_line: int | None
     units: list[str] | None
     width: int
-    rows: list[int] = field(default_factory=list)  # 0-based indices of the data lines
+    rows: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int32))  # 0-based indices of the data lines
     preamble: list[str] = field(default_factory=list)
 
 
@@ -69,10 +47,9 @@ class Layout:
     trailer: list[str]
 
 
-def find_layout(lines: list[str], dialect: Dialect, overrides: dict, shown: str) -> Layout:
+def find_layout(lines: Lines, dialect: Dialect, overrides: dict, shown: str) -> Layout:
     """Blocks of ``lines``; raises InputFileError for a header without data."""
-    scan = Scan.of(lines)
-    headers = _headers(lines, scan, dialect, overrides)
+    headers = _headers(lines, dialect, overrides)
     if headers:
         begin = headers[0]
     else:
@@ -81,8 +58,8 @@ def find_layout(lines: list[str], dialect: Dialect, overrides: dict, shown: str)
     blocks, preamble = [], [line for line in lines[:begin] if line.strip()]
     for k, start in enumerate(headers):
         stop = headers[k + 1] if k + 1 < len(headers) else len(lines)
-        block = _block(lines, start, stop, dialect, scan) if start is not None else _headless(lines, begin, dialect, scan)
-        if block.rows:
+        block = _block(lines, start, stop, dialect) if start is not None else _headless(lines, begin, dialect)
+        if block.rows.size:
             block.preamble, preamble = preamble, []
             blocks.append(block)
         else:  # a header line without data: keep it as text
@@ -93,14 +70,14 @@ def find_layout(lines: list[str], dialect: Dialect, overrides: dict, shown: str)
     return Layout(blocks, preamble)
 
 
-def _header_only(shown: str, index: int, lines: list[str]) -> InputFileError:
+def _header_only(shown: str, index: int, lines: Lines) -> InputFileError:
     return InputFileError(
         f"File '{shown}' has a header (line {index + 1}: '{lines[index].strip()}') but no data rows "
         "below it; export the sweep again with its measured points."
     )
 
 
-def _headers(lines: list[str], scan: Scan, dialect: Dialect, overrides: dict) -> list[int]:
+def _headers(lines: Lines, dialect: Dialect, overrides: dict) -> list[int]:
     """Indices of the header lines.
 
     Lines with text are judged once per skeleton (the line without its
@@ -108,7 +85,7 @@ def _headers(lines: list[str], scan: Scan, dialect: Dialect, overrides: dict) ->
     """
     judged: dict[str, bool] = {}
     found = []
-    for i in np.flatnonzero(scan.text):
+    for i in np.flatnonzero(lines.text):
         skeleton = lines[i].translate(_NO_DIGITS)
         if skeleton not in judged:
             judged[skeleton] = _is_header(lines[i], dialect, overrides)
@@ -125,7 +102,7 @@ def _is_header(line: str, dialect: Dialect, overrides: dict) -> bool:
     return len(cells) >= 2 and flow_roles_in(cells, overrides) >= 2
 
 
-def _header_above_numbers(lines: list[str], dialect: Dialect) -> tuple[int | None, int]:
+def _header_above_numbers(lines: Lines, dialect: Dialect) -> tuple[int | None, int]:
     """(index of the header above the first row of numbers or None, where the block begins)."""
     first = _first_data(lines, dialect)
     above = first - 1
@@ -139,7 +116,7 @@ def _header_above_numbers(lines: list[str], dialect: Dialect) -> tuple[int | Non
     return None, first
 
 
-def _first_data(lines: list[str], dialect: Dialect) -> int:
+def _first_data(lines: Lines, dialect: Dialect) -> int:
     """Index of the first row of numbers (or, failing that, of two numbers among text)."""
     for i, line in enumerate(lines):
         if _is_data(line, dialect, None):
@@ -148,14 +125,14 @@ def _first_data(lines: list[str], dialect: Dialect) -> int:
     return next(two_numbers, 0)  # sniff() found such a line
 
 
-def _headless(lines: list[str], begin: int, dialect: Dialect, scan: Scan) -> Block:
+def _headless(lines: Lines, begin: int, dialect: Dialect) -> Block:
     """The one block of a file without a header, from its first row of numbers."""
     block = Block(None, None, None, None, len(_trimmed(dialect.split(lines[begin]))))
-    block.rows = _data_rows(lines, begin, len(lines), dialect, block.width, scan)
+    block.rows = _data_rows(lines, begin, len(lines), dialect, block.width)
     return block
 
 
-def _block(lines: list[str], start: int, stop: int, dialect: Dialect, scan: Scan) -> Block:
+def _block(lines: Lines, start: int, stop: int, dialect: Dialect) -> Block:
     """The block whose header is on line index ``start``, with an optional units row."""
     header = _trimmed(dialect.split_header(lines[start]))
     width = _data_width(lines, start + 1, stop, dialect) or len(header)
@@ -165,7 +142,7 @@ def _block(lines: list[str], start: int, stop: int, dialect: Dialect, scan: Scan
     if begin < stop and is_units_row(dialect.split_header(lines[begin], len(header))):
         block.units_line, block.units = begin, dialect.split_header(lines[begin], len(header))
         begin += 1
-    block.rows = _data_rows(lines, begin, stop, dialect, block.width, scan)
+    block.rows = _data_rows(lines, begin, stop, dialect, block.width)
     return block
 
 
@@ -179,26 +156,26 @@ def _data_width(lines, begin, stop, dialect) -> int | None:
     return counts.most_common(1)[0][0] if counts else None
 
 
-def _data_rows(lines, begin: int, stop: int, dialect: Dialect, width: int, scan: Scan) -> list[int]:
+def _data_rows(lines: Lines, begin: int, stop: int, dialect: Dialect, width: int) -> np.ndarray:
     """Indices of the data lines: every non-blank line up to the last one that looks like data.
 
     Lines between data lines stay in (so that a bad row is reported, not
     skipped), except comment lines starting with '#'.  Lines of digits and
     delimiters only are data without a closer look.
     """
-    plain = scan.digit[begin:stop] & ~scan.text[begin:stop]
+    plain = lines.digit[begin:stop] & ~lines.text[begin:stop]
     data, other = plain.copy(), np.zeros_like(plain)
     for j in np.flatnonzero(~plain):
         line = lines[begin + j]
-        if scan.digit[begin + j] and _is_data(line, dialect, width):
+        if lines.digit[begin + j] and _is_data(line, dialect, width):
             data[j] = True
         elif not (_is_blank(line, dialect) or line.lstrip().startswith("#")):
             other[j] = True
     found = np.flatnonzero(data)
     if found.size == 0:
-        return []
+        return np.zeros(0, dtype=np.int32)
     end = found[-1] + 1
-    return (np.flatnonzero((data | other)[:end]) + begin).tolist()
+    return (np.flatnonzero((data | other)[:end]) + begin).astype(np.int32)  # half the memory of int64
 
 
 def _is_data(line: str, dialect: Dialect, width: int | None) -> bool:
@@ -218,9 +195,9 @@ def _is_blank(line: str, dialect: Dialect) -> bool:
     return not line.strip(" \t" + (dialect.delimiter or ""))
 
 
-def _text_after(lines: list[str], block: Block, stop: int) -> list[str]:
+def _text_after(lines: Lines, block: Block, stop: int) -> list[str]:
     """Non-blank lines between the block's last data row and ``stop``."""
-    after = (block.rows[-1] + 1) if block.rows else (block.units_line or block.header_line or 0) + 1
+    after = int(block.rows[-1]) + 1 if block.rows.size else (block.units_line or block.header_line or 0) + 1
     return [line for line in lines[after:stop] if line.strip()]
 
 
@@ -232,7 +209,7 @@ def _trimmed(cells: list[str]) -> list[str]:
     return cells[:end]
 
 
-def no_table(lines: list[str], shown: str, overrides: dict) -> InputFileError:
+def no_table(lines: Lines, shown: str, overrides: dict) -> InputFileError:
     """The error for a file in which no delimiter gives rows of two or more numbers."""
     if sum(1 for line in lines if is_number(clean(line))) >= 3:
         return InputFileError(

@@ -31,15 +31,23 @@ def segments(shear_rate: np.ndarray) -> np.ndarray:
     does not start a segment.
     """
     n = shear_rate.size
+    segment = np.zeros(n, dtype=int)
     if n < 3:
-        return np.zeros(n, dtype=int)
-    step = np.diff(np.log(shear_rate))
-    sign = np.where(np.abs(step) > 1e-9, np.sign(step), 0.0)
-    sign = _fill_flat_steps(sign)
+        return segment
+    sign = _fill_flat_steps(_directions(shear_rate))
     lone = (sign[1:-1] != sign[:-2]) & (sign[:-2] == sign[2:])
     sign[1:-1][lone] = sign[:-2][lone]
-    turns = np.concatenate([[0], (sign[1:] != sign[:-1]).astype(int)])
-    return np.concatenate([[0], np.cumsum(turns)])
+    np.cumsum(sign[1:] != sign[:-1], out=segment[2:])
+    return segment
+
+
+def _directions(shear_rate: np.ndarray, chunk: int = 1 << 16) -> np.ndarray:
+    """Per step of ln(shear rate): +1 up, -1 down, 0 flat (within 1e-9), as int8, computed in chunks."""
+    sign = np.empty(shear_rate.size - 1, dtype=np.int8)
+    for low in range(0, sign.size, chunk):
+        step = np.diff(np.log(shear_rate[low : low + chunk + 1]))
+        sign[low : low + step.size] = (step > 1e-9).view(np.int8) - (step < -1e-9).view(np.int8)
+    return sign
 
 
 def _fill_flat_steps(sign: np.ndarray) -> np.ndarray:
@@ -49,6 +57,8 @@ def _fill_flat_steps(sign: np.ndarray) -> np.ndarray:
     ramp) puts its second point in the down segment.
     """
     nonzero = np.flatnonzero(sign)
+    if nonzero.size == sign.size:
+        return sign
     if nonzero.size == 0:
         return np.ones_like(sign)
     following = np.minimum.accumulate(np.where(sign != 0, np.arange(sign.size), sign.size)[::-1])[::-1]

@@ -1,45 +1,86 @@
 """The cells of a block's data rows, as numbers per column.
 
-Fast path: when every row has the same number of delimiters the whole block
-is split at once and each column converted with ``float`` in C; otherwise
-rows are split one by one so that a ragged row can be named.  Missing values
-(empty, NaN, --, n/a, ...) become NaN; any other text in a numeric column is
-an error naming its line and column.
+A large block is read in bulk (:mod:`rheofit.ingest.bulk`, pandas' C reader)
+once the columns wanted are known (:meth:`Cells.plan`).  Otherwise, and
+whenever the bulk reader declines, rows are split in Python: the whole
+block at once when every row has the same number of delimiters, else row
+by row so that a ragged row can be named.  Missing values (empty, NaN, --,
+n/a, ...) become NaN; any other text in a numeric column is an error
+naming its line and column.
 """
 
 from __future__ import annotations
 
+import sys
+
 import numpy as np
 
 from rheofit.errors import InputFileError
+from rheofit.ingest import bulk
 from rheofit.ingest.columns import Column
-from rheofit.ingest.dialect import Dialect, clean, is_missing
+from rheofit.ingest.dialect import Dialect, cell_value, clean
 from rheofit.ingest.layout import Block
+from rheofit.ingest.lines import Lines
+
+#: blocks from this many rows on are read in bulk when pandas is loaded already (below, splitting is as quick)
+BULK_ROWS = 5_000
+#: and from this many when pandas must be loaded first: loading it (once per process) takes about as
+#: long as splitting this many rows one by one (both measured together in benchmarks/import_speed.py's
+#: setting: about 1.1 s each on the loaded development machine)
+BULK_ROWS_COLD = 200_000
 
 
 class Cells:
     """The data rows of one block, split into cells on demand."""
 
-    def __init__(self, lines: list[str], block: Block, dialect: Dialect, shown: str):
-        self.texts = [lines[i] for i in block.rows]
-        self.line_numbers = np.asarray(block.rows, dtype=int) + 1
+    def __init__(self, lines: Lines, block: Block, dialect: Dialect, shown: str):
+        self.lines, self.rows = lines, block.rows
+        self.line_numbers = block.rows + 1
         self.block, self.dialect, self.shown = block, dialect, shown
-        self._columns = self._split()
+        self._texts = self._columns = None
+        self._bulk = {}
+        large = block.rows.size >= (BULK_ROWS if "pandas" in sys.modules else BULK_ROWS_COLD)
+        self._shape = bulk.shape(lines, block.rows, dialect, block.width) if large else None
+        if self._shape is None:
+            self._columns = self._split()
 
     def __len__(self) -> int:
-        return len(self.texts)
+        return self.rows.size
+
+    @property
+    def texts(self) -> list[str]:
+        """The data lines as text."""
+        if self._texts is None:
+            self._texts = [self.lines[int(i)] for i in self.rows]
+        return self._texts
+
+    def plan(self, numeric: list[Column], text: list[Column] = ()) -> None:
+        """Read these columns together in one bulk pass, when the block is large enough."""
+        if self._shape is None or self._bulk:
+            return
+        found = bulk.read(self.lines, self.rows, self.dialect, self._shape,
+                          [c.position for c in numeric], [c.position for c in text])
+        if found is None:
+            self._shape = None
+        else:
+            self._bulk = found
 
     def text(self, column: Column) -> list[str]:
         """The cells of a column, cleaned of spaces and quotes."""
-        return [clean(c) for c in self._columns[column.position]]
+        if column.position in self._bulk:
+            split_at_once = self.dialect.delimiter is not None and self._shape.uniform
+            cells = self._bulk[column.position]
+            return [clean(c) for c in cells] if split_at_once else [clean(clean(c)) for c in cells]
+        return [clean(c) for c in self._split_columns()[column.position]]
 
     def numbers(self, column: Column) -> np.ndarray:
         """The column as floats; missing values as NaN (inf counts as missing)."""
-        cells = self._columns[column.position]
-        if self.dialect.decimal == ",":
-            cells = [c.replace(",", ".") for c in cells]
+        if column.position in self._bulk:
+            return self._bulk[column.position]
+        cells = self._split_columns()[column.position]
         try:
-            values = np.fromiter(map(float, cells), dtype=float, count=len(cells))
+            values = np.fromiter(map(float, cells if self.dialect.decimal == "." else
+                                     (c.replace(",", ".") for c in cells)), dtype=float, count=len(cells))
         except ValueError:
             values = self._slow_numbers(cells, column)
         values[~np.isfinite(values)] = np.nan
@@ -48,15 +89,16 @@ class Cells:
     def _slow_numbers(self, cells: list[str], column: Column) -> np.ndarray:
         values = np.empty(len(cells))
         for k, cell in enumerate(cells):
-            cell = clean(cell).replace("\u2212", "-")  # typographic minus sign
-            if is_missing(cell):
-                values[k] = np.nan
-                continue
             try:
-                values[k] = float(cell)
+                values[k] = cell_value(cell, self.dialect.decimal)
             except ValueError:
                 raise self._not_a_number(k, column) from None
         return values
+
+    def _split_columns(self) -> list[list[str]]:
+        if self._columns is None:
+            self._columns = self._split()
+        return self._columns
 
     def _not_a_number(self, k: int, column: Column) -> InputFileError:
         original = self.dialect.split(self.texts[k])[column.position]

@@ -12,7 +12,7 @@ from rheofit.fitting.evidence import Evidence
 from rheofit.fitting.statistics import akaike_weights
 from rheofit.fitting.support import RANKING_MIN_POINTS, not_ranked_lines
 from rheofit.models import MODELS
-from rheofit.report.display import number, shown
+from rheofit.report.display import literal, number, shown, visible
 
 
 def interval(ci) -> str:
@@ -100,7 +100,7 @@ def flag_lines(flags) -> Text:
     text = Text()
     for flag in flags:
         text.append("  • ", style="yellow")
-        text.append(flag.message + "\n")
+        text.append(visible(flag.message) + "\n")
     return text
 
 
@@ -132,7 +132,7 @@ def curve_block(curve, results, chosen) -> Group:
     not ranked, the chosen fit's evidence, parameters and flags."""
     low, high = curve.shear_rate_range
     head = Text(
-        f"\n{curve.name}  ({curve.source or 'in memory'}; {len(curve)} points, "
+        f"\n{visible(curve.name)}  ({visible(curve.source or 'in memory')}; {len(curve)} points, "
         f"shear rate {number(low)}–{number(high)} 1/s)",
         style="bold",
     )
@@ -156,7 +156,7 @@ def summary_table(groups) -> Table:
         support = best.support
         weight = "—" if support is None else ("only one ranked" if support.sole else f"{support.akaike_weight:.3f}")
         misfit = f"{Evidence.of(best).misfit_percent:.2g} %"
-        table.add_row(curve.name, best.model, gap, weight, misfit, params, str(len(best.flags)))
+        table.add_row(literal(curve.name), best.model, gap, weight, misfit, params, str(len(best.flags)))
     return table
 
 
@@ -214,7 +214,7 @@ def prediction_block(result, geometry, p) -> Group:
 
     from rheofit.flow.predict import SAFETY_CAUTION
 
-    label = f" '{p.fluid.name}'" if p.fluid.name else ""
+    label = f" '{visible(p.fluid.name)}'" if p.fluid.name else ""
     head = Text(f"\n{p.fluid.model}{label} in a {geometry.describe()}", style="bold")
     top = headline_text(p)
     caution = Panel(Text(SAFETY_CAUTION), border_style="yellow")

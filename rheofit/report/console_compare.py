@@ -33,7 +33,7 @@ def parameter_table(comparison):
     from rich.markup import escape
     from rich.table import Table
 
-    from rheofit.report.display import number
+    from rheofit.report.display import literal, number
 
     declaration = comparison.fits[0].declaration
     table = Table(title=f"Parameters of the {comparison.model} model (SI, 95 % intervals)",
@@ -47,7 +47,7 @@ def parameter_table(comparison):
         fit = comparison.fits[i]
         cells = [f"{number(fit.params[s.name].value, 4)}\n{_short_interval(fit.params[s.name].ci95)}"
                  for s in declaration.parameters]
-        table.add_row(str(i + 1) + ("*" if i == comparison.reference else ""), row["lot"], *cells)
+        table.add_row(str(i + 1) + ("*" if i == comparison.reference else ""), literal(row["lot"]), *cells)
     return table
 
 
@@ -56,7 +56,7 @@ def lots_table(comparison):
     from rich.table import Table
     from rich.text import Text
 
-    from rheofit.report.display import shown
+    from rheofit.report.display import literal, shown
 
     kind = {"pressure_drop": "pressure", "flow_rate": "flow_rate"}
     solved = comparison.solved
@@ -72,7 +72,7 @@ def lots_table(comparison):
     table.add_column("max Δη", justify="right")
     table.add_column("ok", justify="center")
     for i, row in enumerate(comparison.table.to_dict(orient="records")):
-        cells = [str(i + 1) + ("*" if i == comparison.reference else ""), row["lot"]]
+        cells = [str(i + 1) + ("*" if i == comparison.reference else ""), literal(row["lot"])]
         if solved:
             cells += [shown(row[solved], kind[solved]),
                       _range_text(row[solved + "_low"], row[solved + "_high"], kind[solved]),
@@ -91,16 +91,14 @@ def comparison_block(comparison):
 
     from rheofit.flow.predict import SAFETY_CAUTION
     from rheofit.report.console import flag_lines
-    from rheofit.report.display import number
-
-    from rheofit.report.display import shown
+    from rheofit.report.display import number, shown, visible
 
     low, high = comparison.shared_range
     head = Text()
     if comparison.warning:
         head.append("\nWARNING: ", style="bold red")
-        head.append(comparison.warning, style="red")
-    head.append(f"\n{len(comparison.lots)} lots; reference '{comparison.lots[comparison.reference]}'; "
+        head.append(visible(comparison.warning), style="red")
+    head.append(f"\n{len(comparison.lots)} lots; reference '{visible(comparison.lots[comparison.reference])}'; "
                 f"model {comparison.model} ({comparison.model_choice}); shared shear-rate range "
                 f"{number(low)} to {number(high)} 1/s", style="bold")
     if comparison.operating_point:
@@ -111,9 +109,10 @@ def comparison_block(comparison):
     verdicts = Text("\nVerdicts:\n", style="bold")
     for i, row in enumerate(comparison.table.to_dict(orient="records")):
         style = "green" if row["within_tolerance"] else "red"
-        verdicts.append(f"  {row['lot']}: ", style="bold")
-        verdicts.append(f"{row['verdict']}\n", style=style)
-        verdicts.append(f"    evidence: {comparison.evidence(i, shown)}\n", style="dim" if not row["forced_model"] else "red")
+        verdicts.append(f"  {visible(row['lot'])}: ", style="bold")
+        verdicts.append(f"{visible(row['verdict'])}\n", style=style)
+        verdicts.append(f"    evidence: {visible(comparison.evidence(i, shown))}\n",
+                        style="red" if row["forced_model"] else "dim")
     test = comparison.same_curve
     if comparison.p_value == comparison.p_value:
         stats = Text(f"Same-curve test (extra sum of squares F test, one parameter set for all lots "

@@ -7,8 +7,37 @@ figures, so a pressure reads in the same unit everywhere.
 from __future__ import annotations
 
 import math
+import unicodedata
 
 import numpy as np
+
+
+def visible(value) -> str:
+    """Text from a file made safe for a terminal: control and format characters (escape
+    codes, carriage returns, bidirectional overrides) shown as ``\\x1b``-style escapes.
+
+    >>> print(visible("lot\\x1b[2J A\\u202e"))
+    lot\\x1b[2J A\\u202e
+    """
+    text = str(value)
+    return "".join(c if unicodedata.category(c) not in ("Cc", "Cf") else
+                   (f"\\x{ord(c):02x}" if ord(c) < 0x100 else f"\\u{ord(c):04x}") for c in text)
+
+
+def markup_safe(value) -> str:
+    """Text from a file for a place that reads rich markup (a progress line, an f-string
+    printed by a console): :func:`visible`, with ``[`` escaped so ``[/]`` prints as itself."""
+    from rich.markup import escape
+
+    return escape(visible(value))
+
+
+def literal(value):
+    """Text from a file as a rich ``Text`` (never read as markup) with :func:`visible` escapes,
+    for table cells."""
+    from rich.text import Text
+
+    return Text(visible(value))
 
 
 def number(x, digits: int = 4) -> str:

@@ -100,27 +100,33 @@ def report_files(path, analysis, figures_dir=None) -> list[Path]:
 
 
 def write_report(path, analysis, *, figures_dir=None, force: bool = False,
-                 steps: Steps | None = None) -> Path:
+                 steps: Steps | None = None, inputs=()) -> Path:
     """Write the report to ``path`` (atomically), and each figure as PNG and SVG into ``figures_dir``.
 
-    Nothing is overwritten without ``force`` and no missing folder is made
-    for the report: the checks run before any work, and raise
-    OutputExistsError or OutputPathError naming the path.
+    Nothing is overwritten without ``force``, no input, link or non-regular
+    file ever (see :func:`rheofit.output.check_target`), and no missing folder
+    is made for the report: the checks run before any work, and raise
+    OutputExistsError or OutputPathError naming the path.  Every file is
+    renamed into place only once all are written, so a stopped run leaves none.
     """
-    from rheofit.output import check_target, make_folder, refuse_existing, write_atomic
+    from rheofit.output import check_target, make_folder, refuse_existing, staged, write_atomic
     from rheofit.report import plots
 
-    check_target(path, force=force)
+    files = report_files(path, analysis, figures_dir)
+    if figures_dir is not None:
+        make_folder(figures_dir)  # before any drawing: a file in the way is refused at once
+    for file in files:
+        check_target(file, force=force, inputs=inputs)
     if not force:
-        refuse_existing(*report_files(path, analysis, figures_dir))
+        refuse_existing(*files)
 
     def keep(key, fig, svg):
         plots.save_figure(fig, figures_dir, key, force=force, svg=svg)
 
-    if figures_dir is not None:
-        make_folder(figures_dir)  # before any drawing: a file in the way is refused at once
-    text = build_report(analysis, steps=steps, keep=keep if figures_dir is not None else None)
-    return write_atomic(path, text, force=force)
+    with staged():
+        text = build_report(analysis, steps=steps, keep=keep if figures_dir is not None else None)
+        write_atomic(path, text, force=force, inputs=inputs)
+    return Path(path)
 
 
 # re-exported for callers that assemble their own pages
