@@ -403,12 +403,14 @@ def _fits(curves, labels, model, progress):
         return fits, best, "best by AICc summed over the lots", totals, rankings
     from rheofit.fitting import fit_all
     from rheofit.fitting.support import choose
+    from rheofit.models import MODELS
 
     declaration = get_model(model)
+    tried = [m for m in MODELS.values() if m.name != declaration.name] + [declaration]
     fits = []
     for i, curve in enumerate(curves):  # every model: the given one's weight among them
         progress(f"fitting {declaration.name} (and the others, to judge it) to '{labels[i]}'")
-        fits.append(choose(fit_all(curve), declaration.name))
+        fits.append(choose(fit_all(curve, tried), declaration))
     return fits, declaration.name, "given", {}, None
 
 
