@@ -7,9 +7,10 @@ them by AICc.  Everything is generic over the declarations in
 Method
 ------
 * Residuals are relative, in log space: r_i = ln tau_model(gamma_dot_i) -
-  ln tau_i, minimised by lmfit's trust-region reflective least squares
-  within the declared bounds; ``positive_scale`` parameters are fitted as
-  their logarithms (:mod:`rheofit.fitting.problem`).
+  ln tau_i, minimised by trust-region reflective least squares
+  (scipy.optimize.least_squares) within the declared bounds;
+  ``positive_scale`` parameters are fitted as their logarithms
+  (:mod:`rheofit.fitting.problem`).
 * Start from the declaration's ``guess()``; parameters that commonly trap
   the optimiser (``lam``, ``tau_y``, ``eta_inf``) get a few extra starts
   and the lowest RSS wins.
