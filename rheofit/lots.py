@@ -1,7 +1,8 @@
 """Lots side by side: one model, parameters with intervals, the operating point and a same-curve test.
 
 :func:`compare` fits one model to every lot (the best by summed AICc over
-the lots unless one is given), predicts each lot at one operating point in a
+the lots unless one is given; the models are ranked at their optima, and
+95 % intervals are computed for the chosen model only), predicts each lot at one operating point in a
 Tube or Slit (with 95 % intervals, :mod:`rheofit.flow.intervals`), and judges
 each lot against a reference lot by two criteria:
 
@@ -325,39 +326,43 @@ def shared_range(curves, labels=None) -> tuple[float, float]:
 
 
 def _choose_model(curves, labels, progress):
-    """(name, {model: summed AICc}, rankings): the best model by AICc summed over lots."""
-    from rheofit.fitting import fit_all
+    """(name, {model: summed AICc}, per-lot {model: AICc}): the best model by AICc summed over lots.
 
-    rankings = []
+    The models are ranked at their optima alone; intervals are computed
+    afterwards for the chosen model only.
+    """
+    from rheofit.fitting import aicc_scores
+
+    scores = []
     for i, curve in enumerate(curves):
-        progress(f"fitting every model to '{labels[i]}'")
-        rankings.append(fit_all(curve))
+        progress(f"ranking every model on '{labels[i]}'")
+        scores.append(aicc_scores(curve))
     totals = {}
-    for name in [r.model for r in rankings[0]]:
-        scores = [next((r.aicc for r in ranking if r.model == name), math.inf) for ranking in rankings]
-        if all(math.isfinite(s) for s in scores):
-            totals[name] = float(sum(scores))
+    for name in scores[0]:
+        values = [lot.get(name, math.inf) for lot in scores]
+        if all(math.isfinite(v) for v in values):
+            totals[name] = float(sum(values))
     if not totals:
         raise FitError("No model could be fitted to every lot, so the lots cannot be compared "
                        "with one model; check the flow curves or give a model.")
-    best = min(totals, key=totals.get)
-    return best, totals, rankings
+    return min(totals, key=totals.get), totals, scores
 
 
 def _fits(curves, labels, model, progress):
+    """(fits with intervals, model name, how it was chosen, summed AICc, per-lot AICc or None)."""
     from rheofit.fitting import fit
     from rheofit.models import get_model
 
+    scores, totals, choice = None, {}, "given"
     if model is None:
-        best, totals, rankings = _choose_model(curves, labels, progress)
-        fits = [next(r for r in ranking if r.model == best) for ranking in rankings]
-        return fits, best, "best by AICc summed over the lots", totals, rankings
+        model, totals, scores = _choose_model(curves, labels, progress)
+        choice = "best by AICc summed over the lots"
     declaration = get_model(model)
     fits = []
     for i, curve in enumerate(curves):
         progress(f"fitting {declaration.name} to '{labels[i]}'")
         fits.append(fit(curve, declaration))
-    return fits, declaration.name, "given", {}, None
+    return fits, declaration.name, choice, totals, scores
 
 
 def same_curve_test(curves, fits) -> dict:
@@ -371,7 +376,7 @@ def same_curve_test(curves, fits) -> dict:
     """
     from scipy.special import fdtrc  # the F survival function (scipy.stats.f.sf calls it)
 
-    from rheofit.fitting import fit
+    from rheofit.fitting import optimum_rss
 
     model = fits[0].declaration
     k = len(model.parameters)
@@ -386,11 +391,11 @@ def same_curve_test(curves, fits) -> dict:
     pooled = FlowCurve.from_arrays(np.concatenate([c.shear_rate for c in curves]),
                                    stress=np.concatenate([c.stress for c in curves]), name="pooled lots")
     try:
-        shared = fit(pooled, model)
+        rss_pooled = optimum_rss(pooled, model)  # only the minimum counts here, not intervals
     except FitError as exc:
         out["note"] = f"the pooled data could not be fitted: {exc}"
         return out
-    rss_shared = min([shared.rss_log] + _restarted_rss(pooled, model, fits))
+    rss_shared = min([rss_pooled] + _restarted_rss(pooled, model, fits))
     out["rss_shared"] = rss_shared
     if df_sep <= 0 or rss_sep <= 0:
         out["note"] = "the separate fits leave no residual degrees of freedom"
@@ -510,7 +515,7 @@ def _lot_flags(labels, fits, predictions) -> list[Flag]:
     return flags
 
 
-def _comparison_flags(labels, fits, predictions, shared, rankings, model, geometry) -> list[Flag]:
+def _comparison_flags(labels, fits, predictions, shared, scores, model, geometry) -> list[Flag]:
     flags = list(geometry.flags) if geometry is not None else []
     if shared[1] / shared[0] < NARROW_SHARED_RATIO:
         flags.append(Flag("narrow_shared_range",
@@ -525,14 +530,14 @@ def _comparison_flags(labels, fits, predictions, shared, rankings, model, geomet
                           f"the shared range ({shared[0]:.3g} to {shared[1]:.3g} 1/s): the curve "
                           "criterion does not cover the operating point there.",
                           {"lots": outside, "shared_range": list(shared)}))
-    for label, ranking in zip(labels, rankings or ()):
-        own = next(r for r in ranking if r.model == model)
-        if own.aicc - ranking[0].aicc > MISFIT_AICC:
+    for label, lot in zip(labels, scores or ()):
+        best = min(lot, key=lot.get)
+        delta = lot[model] - lot[best]
+        if delta > MISFIT_AICC:
             flags.append(Flag("model_misfits_lot",
                               f"Lot '{label}': the common {model} model fits it much worse than "
-                              f"{ranking[0].model} (AICc higher by {own.aicc - ranking[0].aicc:.1f}).",
-                              {"lot": label, "best": ranking[0].model,
-                               "delta_aicc": own.aicc - ranking[0].aicc}))
+                              f"{best} (AICc higher by {delta:.1f}).",
+                              {"lot": label, "best": best, "delta_aicc": delta}))
     return flags
 
 
@@ -557,7 +562,8 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
         Relative tolerance, e.g. 0.10 or "10 %".
     model : str, optional
         One model for every lot; by default the best by AICc summed over
-        the lots (every model is fitted to every lot).
+        the lots (every model is fitted to every lot at its optimum, and
+        intervals are computed for the chosen model only).
     reference : int or str
         Index (from 0) or name of the reference lot.
     samples, seed : Monte Carlo draws and seed of the prediction intervals.
@@ -583,7 +589,7 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
     geometry, point = _operating(geometry, flow_rate, pressure_drop)
     shared = shared_range(curves, labels)
     progress = progress or (lambda message: None)
-    fits, model_name, choice, totals, rankings = _fits(curves, labels, model, progress)
+    fits, model_name, choice, totals, scores = _fits(curves, labels, model, progress)
     predictions = []
     if point:
         from rheofit.flow.predict import predict
@@ -595,7 +601,7 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
     test = same_curve_test(curves, fits)
     solved = _QUANTITY[next(iter(point))] if point else None
     table = _table(labels, fits, predictions, solved, reference, shared, tolerance)
-    flags = _comparison_flags(labels, fits, predictions, shared, rankings, model_name, geometry)
+    flags = _comparison_flags(labels, fits, predictions, shared, scores, model_name, geometry)
     flags += _lot_flags(labels, fits, predictions)
     if not math.isfinite(test["p_value"]):
         flags.append(Flag("test_unavailable", f"The same-curve test could not be made: {test.get('note', '')}.",

@@ -506,3 +506,20 @@ def test_saved_fit_errors(power_law_fit):
         FitResult.from_dict(d)
     with pytest.raises(ModelNameError, match="Unknown model 'powerlaw'"):
         FitResult.from_dict({**power_law_fit.to_dict(), "model": "powerlaw"})
+
+
+# --- ranking at the optima alone ---------------------------------------------------------
+
+@pytest.mark.parametrize("model", ["carreau", "herschel_bulkley"])
+def test_aicc_scores_rank_as_fit_all_does(model):
+    # the scores are fit_all's AICc before any interval is computed; a profile that
+    # finds a lower minimum may only lower a model's AICc, never raise it
+    from rheofit.fitting import aicc_scores
+
+    curve = synthetic(model, RECOVERY[model][0], *RECOVERY[model][1], seed=4)
+    ranking = fit_all(curve)
+    scores = aicc_scores(curve)
+    assert set(scores) == {r.model for r in ranking}
+    for r in ranking:
+        assert r.aicc <= scores[r.model] + 1e-9 * abs(scores[r.model])
+    assert min(scores, key=scores.get) == ranking[0].model
