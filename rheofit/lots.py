@@ -325,7 +325,7 @@ def shared_range(curves, labels=None) -> tuple[float, float]:
     return low, high
 
 
-def _choose_model(curves, labels, progress):
+def _choose_model(curves, labels, progress, rankings=None):
     """(name, {model: summed AICc}, per-lot {model: AICc}): the best model by AICc summed over lots.
 
     The models are ranked at their optima alone; intervals are computed
@@ -336,7 +336,7 @@ def _choose_model(curves, labels, progress):
     scores = []
     for i, curve in enumerate(curves):
         progress(f"ranking every model on '{labels[i]}'")
-        scores.append(aicc_scores(curve))
+        scores.append({r.model: r.aicc for r in rankings[i]} if rankings else aicc_scores(curve))
     totals = {}
     for name in scores[0]:
         values = [lot.get(name, math.inf) for lot in scores]
@@ -348,20 +348,24 @@ def _choose_model(curves, labels, progress):
     return min(totals, key=totals.get), totals, scores
 
 
-def _fits(curves, labels, model, progress):
-    """(fits with intervals, model name, how it was chosen, summed AICc, per-lot AICc or None)."""
+def _fits(curves, labels, model, progress, rankings=None):
+    """(fits with intervals, model name, how it was chosen, summed AICc, per-lot AICc or None).
+
+    ``rankings`` (fit_all per lot, optional) replaces the ranking and the fits.
+    """
     from rheofit.fitting import fit
     from rheofit.models import get_model
 
     scores, totals, choice = None, {}, "given"
     if model is None:
-        model, totals, scores = _choose_model(curves, labels, progress)
+        model, totals, scores = _choose_model(curves, labels, progress, rankings)
         choice = "best by AICc summed over the lots"
     declaration = get_model(model)
     fits = []
     for i, curve in enumerate(curves):
         progress(f"fitting {declaration.name} to '{labels[i]}'")
-        fits.append(fit(curve, declaration))
+        done = [r for r in rankings[i] if r.model == declaration.name] if rankings else []
+        fits.append(done[0] if done else fit(curve, declaration))
     return fits, declaration.name, choice, totals, scores
 
 
@@ -544,7 +548,8 @@ def _comparison_flags(labels, fits, predictions, shared, scores, model, geometry
 # --- public ------------------------------------------------------------------------------------
 
 def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance=0.10, model=None,
-            reference=0, *, samples: int = 400, seed: int | None = 0, progress=None) -> Comparison:
+            reference=0, *, samples: int = 400, seed: int | None = 0, progress=None,
+            rankings=None) -> Comparison:
     """Compare lots (flow curves) with one model, at one operating point, against a reference.
 
     Parameters
@@ -569,6 +574,10 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
     samples, seed : Monte Carlo draws and seed of the prediction intervals.
     progress : callable(str), optional
         Called with a short message before each step (fits, predictions).
+    rankings : list of FitRanking, optional
+        :func:`rheofit.fitting.fit_all` of each lot, in order, when the
+        caller has them already: the model is then chosen from their AICc
+        and its fits (with intervals) are taken from them, not redone.
 
     Returns
     -------
@@ -589,7 +598,7 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
     geometry, point = _operating(geometry, flow_rate, pressure_drop)
     shared = shared_range(curves, labels)
     progress = progress or (lambda message: None)
-    fits, model_name, choice, totals, scores = _fits(curves, labels, model, progress)
+    fits, model_name, choice, totals, scores = _fits(curves, labels, model, progress, rankings)
     predictions = []
     if point:
         from rheofit.flow.predict import predict

@@ -350,3 +350,15 @@ def test_no_model_fits_every_lot(two, monkeypatch):
     monkeypatch.setattr(fitting, "aicc_scores", disjoint)
     with pytest.raises(FitError, match="No model could be fitted to every lot"):
         compare(two)
+
+
+def test_rankings_given_are_used_instead_of_fitting_again():
+    rng = np.random.default_rng(10)
+    curves = [lot("A", rng, points=10), lot("B", rng, points=10)]
+    rankings = [fit_all(k) for k in curves]
+    given = compare(curves, geometry=TUBE, flow_rate=Q, rankings=rankings)
+    fresh = compare(curves, geometry=TUBE, flow_rate=Q)
+    assert given.model == fresh.model
+    chosen = [next(r for r in ranking if r.model == given.model) for ranking in rankings]
+    assert all(f is c for f, c in zip(given.fits, chosen))
+    assert given.table.equals(fresh.table)  # fit_all's fits are fit()'s: the same numbers
