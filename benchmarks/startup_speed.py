@@ -37,6 +37,14 @@ def import_times(args) -> dict[str, int]:
     return times
 
 
+def loaded_heavy(args) -> list[str]:
+    """Which of HEAVY are in sys.modules after ``rheofit ARGS``."""
+    code = ("import sys\nfrom rheofit.cli import app\ntry:\n    app()\nexcept SystemExit:\n    pass\n"
+            f"print(' '.join(m for m in {HEAVY!r} if m in sys.modules), file=sys.stderr)")
+    done = subprocess.run([sys.executable, "-c", code, *map(str, args)], capture_output=True, text=True)
+    return done.stderr.split()
+
+
 def main(repeats: int = 5) -> None:
     print(f"start-up, {repeats} runs each in a fresh interpreter:")
     for label, args in (("rheofit --help", ["--help"]),
@@ -45,11 +53,11 @@ def main(repeats: int = 5) -> None:
         times = [run_command(args) for _ in range(repeats)]
         print(f"  {label:45s} {summary(times)}")
     times = import_times(["fit", SWEEP])
-    print(f"imports of `rheofit fit {SWEEP.name}` (cumulative, slowest top-level ones):")
-    top = {name: t for name, t in times.items() if "." not in name}
-    for name, t in sorted(top.items(), key=lambda item: -item[1])[:8]:
-        print(f"  {name:24s} {t / 1e3:7.1f} ms")
-    loaded = [name for name in HEAVY if name in times]
+    print(f"imports of `rheofit fit {SWEEP.name}` (cumulative):")
+    for name in ("numpy", "typer", "rich", "scipy.optimize", "scipy.special", *HEAVY, "rheofit.fitting"):
+        if name in times:
+            print(f"  {name:24s} {times[name] / 1e3:7.1f} ms")
+    loaded = loaded_heavy(["fit", SWEEP])
     print(f"  loaded: {', '.join(loaded) or 'none'} of {', '.join(HEAVY)}")
 
 

@@ -43,10 +43,11 @@ def _rebuilt(portable) -> list:
 
 
 def worker_count(jobs: int, files: int) -> int:
-    """Processes to use: ``jobs`` (0 = one per core), never more than there are files."""
+    """Processes to use: ``jobs`` (0 = one per core this process may use), at most one per file."""
     import os
 
-    return max(1, min(jobs or os.cpu_count() or 1, files))
+    cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count()
+    return max(1, min(jobs or cores or 1, files))
 
 
 def fit_files(files, model: str, overrides: Optional[dict] = None, jobs: int = 1):
@@ -58,22 +59,23 @@ def fit_files(files, model: str, overrides: Optional[dict] = None, jobs: int = 1
     """
     workers = worker_count(jobs, len(files))
     groups = []
-    with console(stderr=True).status("reading") as status:  # shown on a terminal only
-        if workers == 1:
+    if workers == 1:
+        with console(stderr=True).status("reading") as status:  # shown on a terminal only
             for path in files:
                 status.update(f"fitting {Path(path).name} ({len(groups)} curves so far)")
                 groups += fit_one_file(path, model, overrides)
-            return groups
-        from concurrent.futures import ProcessPoolExecutor
+        return groups
+    from concurrent.futures import ProcessPoolExecutor
 
-        pool = ProcessPoolExecutor(max_workers=workers)
-        try:
-            pending = [pool.submit(_fit_portable, path, model, overrides) for path in files]
+    pool = ProcessPoolExecutor(max_workers=workers)
+    try:  # the workers start (fork) here, before the status line starts its thread
+        pending = [pool.submit(_fit_portable, path, model, overrides) for path in files]
+        with console(stderr=True).status(f"fitting {len(files)} files on {workers} cores") as status:
             for done, future in enumerate(pending, 1):
                 groups += _rebuilt(future.result())
                 status.update(f"fitted {done} of {len(files)} files on {workers} cores")
-        finally:
-            pool.shutdown(wait=True, cancel_futures=True)
+    finally:
+        pool.shutdown(wait=True, cancel_futures=True)
     return groups
 
 
