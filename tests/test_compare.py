@@ -135,14 +135,14 @@ def test_same_curve_test_rejects_at_its_nominal_rate_under_the_null():
 def test_same_curve_test_that_cannot_be_made_is_flagged(monkeypatch):
     import rheofit.fitting as fitting
 
-    real = fitting.fit
+    real = fitting.optimum_rss
 
-    def pooled_fails(curve, model, **kwargs):
+    def pooled_fails(curve, model):
         if curve.name == "pooled lots":
             raise FitError("the optimiser failed")
-        return real(curve, model, **kwargs)
+        return real(curve, model)
 
-    monkeypatch.setattr(fitting, "fit", pooled_fails)
+    monkeypatch.setattr(fitting, "optimum_rss", pooled_fails)
     rng = np.random.default_rng(7)
     c = compare([lot("a", rng), lot("b", rng)], model="power_law")
     assert math.isnan(c.p_value)
@@ -344,14 +344,24 @@ def test_a_lot_that_cannot_be_fitted_is_named(two):
 
 def test_no_model_fits_every_lot(two, monkeypatch):
     import rheofit.fitting as fitting
-    from rheofit.fitting import FitRanking
 
-    real = fitting.fit_all
+    real = fitting.aicc_scores
 
-    def disjoint(curve, *args, **kwargs):
-        models = ["power_law"] if curve.name == "A" else ["newtonian"]
-        return FitRanking([fit(curve, m) for m in models]) if models else real(curve)
+    def disjoint(curve, models=None):
+        return real(curve, ["power_law"] if curve.name == "A" else ["newtonian"])
 
-    monkeypatch.setattr(fitting, "fit_all", disjoint)
+    monkeypatch.setattr(fitting, "aicc_scores", disjoint)
     with pytest.raises(FitError, match="No model could be fitted to every lot"):
         compare(two)
+
+
+def test_rankings_given_are_used_instead_of_fitting_again():
+    rng = np.random.default_rng(10)
+    curves = [lot("A", rng, points=10), lot("B", rng, points=10)]
+    rankings = [fit_all(k) for k in curves]
+    given = compare(curves, geometry=TUBE, flow_rate=Q, rankings=rankings)
+    fresh = compare(curves, geometry=TUBE, flow_rate=Q)
+    assert given.model == fresh.model
+    chosen = [next(r for r in ranking if r.model == given.model) for ranking in rankings]
+    assert all(f is c for f, c in zip(given.fits, chosen))
+    assert given.table.equals(fresh.table)  # fit_all's fits are fit()'s: the same numbers

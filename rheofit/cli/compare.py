@@ -58,7 +58,8 @@ def run_comparison(curves, console, **options):
     from rheofit.lots import compare
     from rheofit.report.display import markup_safe
 
-    steps = len(curves) * (2 if options.get("geometry") is not None else 1) + 1
+    per_lot = 1 + (options.get("model") is None) + (options.get("geometry") is not None)
+    steps = len(curves) * per_lot + 1
     with Progress(console=console, transient=True) as bar:
         task = bar.add_task("comparing", total=steps)
 
