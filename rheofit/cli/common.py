@@ -114,9 +114,9 @@ def read_curves(path, keywords: dict) -> list:
 
 def load_source(source: Path, model: Optional[str], keywords: dict):
     """A FitResult from a saved fit (JSON) or from fitting a data file on the spot."""
-    from rheofit.fitting.saved import is_saved_fit, load_fit
+    from rheofit.fitting.saved import looks_like_json, load_fit
 
-    if is_saved_fit(source):
+    if looks_like_json(source):  # a saved fit, or broken JSON said so (never read as a CSV)
         given = [k for k, v in keywords.items() if k != "curve" and v not in (None, "all")]
         if given:
             from rheofit.errors import ParameterError
