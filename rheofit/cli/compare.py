@@ -6,7 +6,6 @@ Thin: parse the options, call :func:`rheofit.lots.compare`, print what
 
 from __future__ import annotations
 
-import json
 import sys
 from pathlib import Path
 from typing import Optional
@@ -65,12 +64,12 @@ def run_comparison(curves, console, **options):
 
 
 def _write(out: Path, comparison, force: bool) -> None:
-    from rheofit.output import write_atomic
+    from rheofit.output import strict_json, write_atomic
 
     if out.suffix.lower() == ".csv":
         write_atomic(out, comparison.table.to_csv(index=False), force=force)
     else:
-        write_atomic(out, json.dumps(comparison.to_dict(), indent=2) + "\n", force=force)
+        write_atomic(out, strict_json(comparison.to_dict(), indent=2) + "\n", force=force)
 
 
 # --- the command -------------------------------------------------------------------------------
@@ -125,7 +124,9 @@ def compare_command(
                                 reference=index, **point)
     if as_json:
         if out is None:
-            sys.stdout.write(json.dumps(comparison.to_dict(), indent=2) + "\n")
+            from rheofit.output import strict_json
+
+            sys.stdout.write(strict_json(comparison.to_dict(), indent=2) + "\n")
             return
     else:
         Console().print(comparison_block(comparison))

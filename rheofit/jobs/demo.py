@@ -131,7 +131,7 @@ def run_demo(out=None, *, force: bool = False, steps: Steps | None = None) -> De
     import json
     import tempfile
 
-    from rheofit.output import write_atomic
+    from rheofit.output import strict_json, write_atomic
     from rheofit.report.html import write_report
     from rheofit.fitting.saved import fits_document
 
@@ -140,7 +140,7 @@ def run_demo(out=None, *, force: bool = False, steps: Steps | None = None) -> De
     analysis = analyse_demo(steps)
     document = fits_document([(s.curve, s.ranking) for s in analysis.samples])
     document["notice"] = NOTICE
-    fits = write_atomic(out / FITS_NAME, json.dumps(document, indent=2) + "\n", force=force)
+    fits = write_atomic(out / FITS_NAME, strict_json(document, indent=2) + "\n", force=force)
     report = write_report(out / REPORT_NAME, analysis, force=force, steps=steps)
     return DemoResult(out, report, fits, analysis)
 
