@@ -119,7 +119,7 @@ def solve_plastic(mesh: QuarterMesh, law, pressure_gradient: float, start: Plast
         qy, qz = factor * wy, factor * wz
         ly, lz = ly + r * (gy_r - qy), lz + r * (gz_r - qz)
         if iteration % _CHECK == 0:
-            scale = np.sqrt(a @ (gy * gy + gz * gz))
+            scale = max(float(np.sqrt(a @ (gy * gy + gz * gz))), 1e-300)  # 0: at rest
             primal = np.sqrt(a @ ((gy - qy) ** 2 + (gz - qz) ** 2)) / scale
             dual = np.sqrt(a @ ((qy - qy_old) ** 2 + (qz - qz_old) ** 2)) / scale
             if primal < tolerance and dual < tolerance:

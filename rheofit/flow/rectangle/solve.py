@@ -51,7 +51,7 @@ import math
 
 import numpy as np
 
-from rheofit.errors import GeometryError
+from rheofit.errors import GeometryError, ParameterError, choice_message
 from rheofit.flow.rectangle import fields
 from rheofit.flow.rectangle.law import FlowLaw
 from rheofit.flow.rectangle.mesh import mesh_hierarchy
@@ -66,6 +66,8 @@ DEFAULT_CELLS_YIELD_STRESS = 64
 LEVELS = 3
 #: the hook a declaration may carry for an exact rectangular-duct flow rate
 SERIES_KEY = "rectangle_flow_rate"
+#: ways the solver may compute the flow rate
+METHODS = ("auto", "generic")
 #: root tolerances on ln Q: Newton (no yield stress), secant on ALG2 results
 _ROOT_TOL, _ROOT_TOL_YIELD = 1e-11, 1e-4
 #: a warm start from the previous operating point is used within this factor of G
@@ -125,9 +127,14 @@ class RectangleSolver:
     cells : int, optional
         Cells across the short half-size of the finest mesh (default 48, or
         64 for a yield-stress fluid).
+    method : {"auto", "generic"}
+        "auto" takes Q from the model's exact series where it declares one;
+        "generic" always from the 2-D solve.
     """
 
-    def __init__(self, declaration, params, depth, width, cells: int | None = None):
+    def __init__(self, declaration, params, depth, width, cells: int | None = None, method: str = "auto"):
+        if method not in METHODS:
+            raise ParameterError(choice_message("method", str(method), METHODS))
         self.declaration = declaration
         self.depth, self.width = _length("depth", depth), _length("width", width)
         self.law = FlowLaw(declaration, params)
@@ -138,9 +145,10 @@ class RectangleSolver:
             raise GeometryError(f"cells = {cells!r} is too coarse; use 4 or more (default {DEFAULT_CELLS}).")
         self.meshes = mesh_hierarchy(0.5 * self.depth, 0.5 * self.width, int(cells), LEVELS)
         self.threshold = threshold_pressure_gradient(self.law.yield_stress, self.depth, self.width)
-        self._series = declaration.extras.get(SERIES_KEY)
+        self._series = declaration.extras.get(SERIES_KEY) if method == "auto" else None
         self._states: list = [None] * LEVELS
         self._gradients: list = [None] * LEVELS
+        self._log_slope = 1.5  # d ln Q / d ln G, learnt by the secant roots
 
     # --- one mesh -------------------------------------------------------------
 
@@ -190,7 +198,7 @@ class RectangleSolver:
             law.yield_stress, self.depth, self.width)
         lo, hi = math.log(threshold), math.inf
         x = max(math.log(guess), lo + 0.05)
-        previous, slope, total, state = None, 1.5, 0, None
+        previous, slope, total, state = None, self._log_slope, 0, None
         for _ in range(60):
             q, state = self._solve_level(level, math.exp(x), law)
             total += state.iterations
@@ -201,6 +209,7 @@ class RectangleSolver:
             if previous is not None and math.isfinite(f) and math.isfinite(previous[1]) and x != previous[0]:
                 secant = (f - previous[1]) / (x - previous[0])
                 slope = secant if secant > 0 else slope
+                self._log_slope = slope
             previous = (x, f)
             step = x - f / slope if math.isfinite(f) else math.nan
             if not (lo < step < hi):
@@ -376,7 +385,7 @@ class RectangleSolver:
 
 
 def solve_rectangle(declaration, params, depth, width, pressure_gradient=None, flow_rate=None,
-                    cells: int | None = None):
+                    cells: int | None = None, method: str = "auto"):
     """Fully developed flow of a declared model in a depth x width rectangular duct.
 
     Parameters
@@ -393,6 +402,8 @@ def solve_rectangle(declaration, params, depth, width, pressure_gradient=None, f
         Q [m^3/s].
     cells : int, optional
         Cells across the short half-size of the finest mesh.
+    method : {"auto", "generic"}
+        See :class:`RectangleSolver`.
 
     Returns
     -------
@@ -406,7 +417,7 @@ def solve_rectangle(declaration, params, depth, width, pressure_gradient=None, f
     """
     if (pressure_gradient is None) == (flow_rate is None):
         raise GeometryError("Give exactly one of pressure_gradient [Pa/m] or flow_rate [m^3/s].")
-    solver = RectangleSolver(declaration, params, depth, width, cells)
+    solver = RectangleSolver(declaration, params, depth, width, cells, method)
     given = pressure_gradient if flow_rate is None else flow_rate
     if flow_rate is None:
         points = _operating(pressure_gradient, "pressure gradient", "Pa/m")
