@@ -307,3 +307,23 @@ def test_at_rest_results():
     assert not still.flowing and still.flow_rate == 0.0
     none = solve_rectangle(BINGHAM, {"tau_y": 1.0, "mu_p": 1e-2}, DEPTH, WIDTH, flow_rate=0.0)
     assert none.pressure_gradient == 0.0 and not none.flowing
+
+
+def test_parameter_draws_on_the_medium_mesh():
+    # own reference: full default-mesh solves of the same parameter sets; the draws are solved on the
+    # medium mesh and scaled by the nominal fine/medium ratio, which must reproduce them to the 1e-4 tolerance
+    params = {"K": 0.1, "n": 0.5}
+    solver = RectangleSolver(POWER_LAW, params, DEPTH, WIDTH)
+    nominal = solver.at_pressure_gradient(1e5)
+    sets = [params, {"K": 0.11, "n": 0.47}, {"K": 0.09, "n": 0.53}]
+    values = solver.draws(sets, nominal)
+    assert values[0] == pytest.approx(nominal.flow_rate, rel=1e-10)
+    for p, value in zip(sets[1:], values[1:]):
+        full = solve_rectangle(POWER_LAW, p, DEPTH, WIDTH, pressure_gradient=1e5).flow_rate
+        assert rel(value, full) < 1e-4
+    back = RectangleSolver(POWER_LAW, params, DEPTH, WIDTH)
+    given_q = back.at_flow_rate(nominal.flow_rate)
+    gradients = back.draws(sets[1:], given_q)
+    for p, value in zip(sets[1:], gradients):
+        full = solve_rectangle(POWER_LAW, p, DEPTH, WIDTH, flow_rate=nominal.flow_rate).pressure_gradient
+        assert rel(value, full) < 1e-4

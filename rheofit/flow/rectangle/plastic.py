@@ -69,9 +69,7 @@ class PlasticState:
 def initial_state(mesh: QuarterMesh, law, pressure_gradient: float) -> PlasticState:
     """A start: the Newtonian profile with the apparent viscosity at the mean wall stress."""
     shape = mesh.poisson.solve(mesh.load)
-    perimeter = mesh.y[-1] + mesh.z[-1]
-    mean_wall = pressure_gradient * mesh.quarter_area / perimeter
-    viscosity = viscous_scale(law, mean_wall)
+    viscosity = start_penalty(mesh, law, pressure_gradient)
     u = shape * pressure_gradient / viscosity
     gy, gz = mesh.gradient(u)
     g = np.hypot(gy, gz)
@@ -86,9 +84,16 @@ def viscous_scale(law, stress: float) -> float:
     return (law.stress(np.array([rate]))[0] - law.yield_stress) / rate
 
 
-def scaled_state(state: PlasticState, factor: float) -> PlasticState:
-    """A start for another pressure gradient: stresses scaled by ``factor`` (velocities kept)."""
-    return replace(state, stress_y=state.stress_y * factor, stress_z=state.stress_z * factor, iterations=0)
+def scaled_state(state: PlasticState, factor: float, penalty: float) -> PlasticState:
+    """A start for another pressure gradient: stresses scaled by ``factor``, velocities kept, penalty reset."""
+    return replace(state, stress_y=state.stress_y * factor, stress_z=state.stress_z * factor,
+                   penalty=penalty, iterations=0)
+
+
+def start_penalty(mesh: QuarterMesh, law, pressure_gradient: float) -> float:
+    """The first penalty r [Pa*s]: the viscous scale at the mean wall stress G A / P."""
+    mean_wall = pressure_gradient * mesh.quarter_area / (mesh.y[-1] + mesh.z[-1])
+    return viscous_scale(law, mean_wall)
 
 
 def prolonged_state(fine: QuarterMesh, coarse: QuarterMesh, state: PlasticState) -> PlasticState:

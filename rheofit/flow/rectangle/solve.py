@@ -55,7 +55,7 @@ from rheofit.errors import GeometryError, ParameterError, choice_message
 from rheofit.flow.rectangle import fields
 from rheofit.flow.rectangle.law import FlowLaw
 from rheofit.flow.rectangle.mesh import mesh_hierarchy
-from rheofit.flow.rectangle.plastic import prolonged_state, scaled_state, solve_plastic
+from rheofit.flow.rectangle.plastic import prolonged_state, scaled_state, solve_plastic, start_penalty
 from rheofit.flow.rectangle.result import RectangleFlow
 from rheofit.flow.rectangle.threshold import threshold_pressure_gradient
 from rheofit.flow.rectangle.viscous import solve_viscous
@@ -164,7 +164,10 @@ class RectangleSolver:
             return fine.prolong(coarse, self._states[coarser].u)
         if previous is None:
             return None
-        return scaled_state(previous, pressure_gradient / g_previous) if self.yield_stress else previous.u
+        if not self.yield_stress:
+            return previous.u
+        penalty = start_penalty(self.meshes[level], self.law, pressure_gradient)
+        return scaled_state(previous, pressure_gradient / g_previous, penalty)
 
     def _solve_level(self, level: int, pressure_gradient: float, law=None):
         """(Q on this mesh [m^3/s], state) at G [Pa/m], warm-started."""
