@@ -164,8 +164,8 @@ class RectangleSolver:
             return fine.prolong(coarse, self._states[coarser].u)
         if previous is None:
             return None
-        if not self.yield_stress:
-            return previous.u
+        if not self.yield_stress:  # the tangent predictor u + (G - G_previous) du/dG
+            return previous.u + (pressure_gradient - g_previous) * previous.velocity_slope
         penalty = start_penalty(self.meshes[level], self.law, pressure_gradient)
         return scaled_state(previous, pressure_gradient / g_previous, penalty)
 

@@ -24,7 +24,8 @@ iteration stops when the Newton decrement d . H d is below
 (1e-10)^2 G int u dA, which bounds the relative error of Q by about 1e-10.
 The start is the Newtonian profile scaled by the exact minimiser of J
 along it.  dQ/dG = m . H^-1 m (H du/dG = m) comes from the last factorised
-Hessian.
+Hessian, and du/dG = H^-1 m gives the start at a nearby G (a tangent
+predictor, Allgower & Georg 1990, Numerical Continuation Methods, ch. 2).
 """
 
 from __future__ import annotations
@@ -53,7 +54,8 @@ class ViscousState:
     stress_z: np.ndarray
     shear_rate: np.ndarray     # |grad u| on each triangle [1/s]
     iterations: int
-    flow_rate_slope: float     # d(int u dA over the quarter)/dG [m^4/(Pa s) * m]
+    flow_rate_slope: float     # d(int u dA over the quarter)/dG [m^4/(Pa*s)]
+    velocity_slope: np.ndarray  # du/dG = H^-1 m [m^2/(Pa*s)], the tangent to the next operating point
 
 
 def _element_flux(law, gy, gz):
@@ -163,5 +165,5 @@ def solve_viscous(mesh: QuarterMesh, law, pressure_gradient: float, start=None) 
             f"The rectangular-channel solver did not converge in {MAX_ITERATIONS} Newton steps "
             f"for model {law.declaration.name} with {law.params}; check the parameter values."
         )
-    slope = float(mesh.load @ lu.solve(mesh.load))
-    return ViscousState(u, ratio * gy, ratio * gz, g, iteration, slope)
+    tangent = lu.solve(mesh.load)
+    return ViscousState(u, ratio * gy, ratio * gz, g, iteration, float(mesh.load @ tangent), tangent)
