@@ -20,7 +20,7 @@ keep the default): the dense products of the fast Poisson solver are
 small, and on a shared two-core machine threaded BLAS made them 4-9 times
 slower.
 
-Run:  python benchmarks/rectangle_speed.py [--quick] [--threads]
+Run:  python benchmarks/rectangle_speed.py [--quick] [--threads] [--fluid N ...]
 """
 
 from __future__ import annotations
@@ -47,6 +47,7 @@ FLUIDS = (
     ("power_law", dict(K=0.1, n=0.4), 2e5),
     ("herschel_bulkley", dict(tau_y=1.5, K=0.05, n=0.5), 2e5),
     ("bingham", dict(tau_y=1.5, mu_p=0.01), 2e5),
+    ("bingham", dict(tau_y=3.5, mu_p=0.01), 2e5),  # nearer the threshold: G/G_c = 1.5 in the square
 )
 
 
@@ -102,9 +103,12 @@ def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="skip the fine-mesh references and draws")
     parser.add_argument("--threads", action="store_true", help="keep the default BLAS threads")
+    parser.add_argument("--fluid", type=int, action="append", help="run only these fluids (0-based index)")
     args = parser.parse_args(argv)
     print(f"BLAS threads: {os.environ.get('OPENBLAS_NUM_THREADS', 'default')}")
-    for name, params, G in FLUIDS:
+    for index, (name, params, G) in enumerate(FLUIDS):
+        if args.fluid and index not in args.fluid:
+            continue
         for aspect in ASPECTS:
             width = DEPTH / aspect
             print(f"{name} {params}, depth/width = {aspect:g} ({DEPTH * 1e6:.0f} x {width * 1e6:.0f} um), "
