@@ -1,7 +1,7 @@
 """rheofit: fit flow curves of non-Newtonian samples and predict their flow.
 
-The public API is this short list.  Heavy modules (lmfit, pandas, scipy,
-matplotlib) load on first use, so ``import rheofit`` and ``rheofit --help``
+The public API is this short list.  Heavy modules (pandas, scipy, matplotlib,
+pint) load on first use, so ``import rheofit`` and ``rheofit --help``
 stay fast.
 
 The map (dependencies point down this list, never up; tests/test_layout.py checks it):

@@ -1,7 +1,8 @@
 """Lots side by side: one model, parameters with intervals, the operating point and a same-curve test.
 
 :func:`compare` fits one model to every lot (the best by summed AICc over
-the lots unless one is given), predicts each lot at one operating point in a
+the lots unless one is given; the models are ranked at their optima, and
+95 % intervals are computed for the chosen model only), predicts each lot at one operating point in a
 Tube or Slit (with 95 % intervals, :mod:`rheofit.flow.intervals`), and judges
 each lot against a reference lot by two criteria:
 
@@ -374,44 +375,65 @@ def shared_range(curves, labels=None) -> tuple[float, float]:
     return low, high
 
 
-def _choose_model(curves, labels, progress):
-    """(name, {model: summed AICc}, rankings): the best model by AICc summed over lots."""
-    from rheofit.fitting import fit_all
+def _lot_scores(curves, labels, progress, rankings=None, models=None) -> list[dict]:
+    """Per lot {model: AICc at its optimum}: from the rankings when given, else ranked without
+    intervals (:func:`rheofit.fitting.aicc_scores` over ``models``, default every model)."""
+    from rheofit.fitting import aicc_scores
 
-    rankings = []
+    scores = []
     for i, curve in enumerate(curves):
-        progress(f"fitting every model to '{labels[i]}'")
-        rankings.append(fit_all(curve))
+        progress(f"ranking every model on '{labels[i]}'")
+        scores.append({r.model: r.aicc for r in rankings[i]} if rankings else aicc_scores(curve, models))
+    return scores
+
+
+def _choose_model(curves, labels, progress, rankings=None):
+    """(name, {model: summed AICc}, per-lot {model: AICc}): the best model by AICc summed over lots.
+
+    The models are ranked at their optima alone; intervals are computed
+    afterwards for the chosen model only.
+    """
+    scores = _lot_scores(curves, labels, progress, rankings)
     totals = {}
-    for name in [r.model for r in rankings[0]]:
-        scores = [next((r.aicc for r in ranking if r.model == name), math.inf) for ranking in rankings]
-        if all(math.isfinite(s) for s in scores):
-            totals[name] = float(sum(scores))
+    for name in scores[0]:
+        values = [lot.get(name, math.inf) for lot in scores]
+        if all(math.isfinite(v) for v in values):
+            totals[name] = float(sum(values))
     if not totals:
         raise FitError("No model could be fitted to every lot, so the lots cannot be compared "
                        "with one model; check the flow curves or give a model.")
-    best = min(totals, key=totals.get)
-    return best, totals, rankings
+    return min(totals, key=totals.get), totals, scores
 
 
-def _fits(curves, labels, model, progress):
-    from rheofit.models import get_model
+def _fits(curves, labels, model, progress, rankings=None):
+    """(fits with intervals, model name, how it was chosen, summed AICc, per-lot AICc or None).
 
+    ``rankings`` (fit_all per lot, optional) replaces the ranking and the fits.  Every fit
+    carries its Akaike weight among the models ranked on its lot; a model given by name is
+    judged there too, and flagged ``forced_model`` where the lot's data reject it (the
+    per-lot AICc returned is then None: the flag says it).
+    """
+    from rheofit.fitting import fit
+    from rheofit.fitting.support import forced, supported
+    from rheofit.models import MODELS, get_model
+
+    totals, choice = {}, "given"
     if model is None:
-        best, totals, rankings = _choose_model(curves, labels, progress)
-        fits = [next(r for r in ranking if r.model == best) for ranking in rankings]
-        return fits, best, "best by AICc summed over the lots", totals, rankings
-    from rheofit.fitting import fit_all
-    from rheofit.fitting.support import choose
-    from rheofit.models import MODELS
-
+        model, totals, scores = _choose_model(curves, labels, progress, rankings)
+        choice = "best by AICc summed over the lots"
     declaration = get_model(model)
-    tried = [m for m in MODELS.values() if m.name != declaration.name] + [declaration]
+    if choice == "given":
+        tried = [m for m in MODELS.values() if m.name != declaration.name] + [declaration]
+        scores = _lot_scores(curves, labels, progress, rankings, tried)
     fits = []
-    for i, curve in enumerate(curves):  # every model: the given one's weight among them
-        progress(f"fitting {declaration.name} (and the others, to judge it) to '{labels[i]}'")
-        fits.append(choose(fit_all(curve, tried), declaration))
-    return fits, declaration.name, "given", {}, None
+    for i, curve in enumerate(curves):
+        progress(f"fitting {declaration.name} to '{labels[i]}'")
+        done = [r for r in rankings[i] if r.model == declaration.name] if rankings else []
+        result = done[0] if done else fit(curve, declaration)
+        if result.support is None:
+            result = supported(result, scores[i])
+        fits.append(forced(result) if choice == "given" else result)
+    return fits, declaration.name, choice, totals, None if choice == "given" else scores
 
 
 def same_curve_test(curves, fits) -> dict:
@@ -423,9 +445,9 @@ def same_curve_test(curves, fits) -> dict:
     rss_separate, p_value and the method (module docstring for the equation
     and sources); p_value is nan, with a ``note``, when the test cannot be made.
     """
-    from scipy import stats
+    from scipy.special import fdtrc  # the F survival function (scipy.stats.f.sf calls it)
 
-    from rheofit.fitting import fit
+    from rheofit.fitting import optimum_rss
 
     model = fits[0].declaration
     k = len(model.parameters)
@@ -440,11 +462,11 @@ def same_curve_test(curves, fits) -> dict:
     pooled = FlowCurve.from_arrays(np.concatenate([c.shear_rate for c in curves]),
                                    stress=np.concatenate([c.stress for c in curves]), name="pooled lots")
     try:
-        shared = fit(pooled, model)
+        rss_pooled = optimum_rss(pooled, model)  # only the minimum counts here, not intervals
     except FitError as exc:
         out["note"] = f"the pooled data could not be fitted: {exc}"
         return out
-    rss_shared = min([shared.rss_log] + _restarted_rss(pooled, model, fits))
+    rss_shared = min([rss_pooled] + _restarted_rss(pooled, model, fits))
     out["rss_shared"] = rss_shared
     if df_sep <= 0 or rss_sep <= 0:
         out["note"] = "the separate fits leave no residual degrees of freedom"
@@ -452,7 +474,7 @@ def same_curve_test(curves, fits) -> dict:
     gain = max(rss_shared - rss_sep, 0.0)  # a shared set can never fit better than separate ones
     f_stat = (gain / out["df_numerator"]) / (rss_sep / df_sep)
     out["f_statistic"] = f_stat
-    out["p_value"] = float(stats.f.sf(f_stat, out["df_numerator"], df_sep))
+    out["p_value"] = float(fdtrc(out["df_numerator"], df_sep, f_stat))
     return out
 
 
@@ -585,7 +607,7 @@ def _lot_flags(labels, curves, fits, predictions) -> list[Flag]:
     return flags
 
 
-def _comparison_flags(labels, fits, predictions, shared, rankings, model, geometry) -> list[Flag]:
+def _comparison_flags(labels, fits, predictions, shared, scores, model, geometry) -> list[Flag]:
     flags = list(geometry.flags) if geometry is not None else []
     if shared[1] / shared[0] < NARROW_SHARED_RATIO:
         flags.append(Flag("narrow_shared_range",
@@ -600,21 +622,22 @@ def _comparison_flags(labels, fits, predictions, shared, rankings, model, geomet
                           f"the shared range ({shared[0]:.3g} to {shared[1]:.3g} 1/s): the curve "
                           "criterion does not cover the operating point there.",
                           {"lots": outside, "shared_range": list(shared)}))
-    for label, ranking in zip(labels, rankings or ()):
-        own = next(r for r in ranking if r.model == model)
-        if own.aicc - ranking[0].aicc > MISFIT_AICC:
+    for label, lot in zip(labels, scores or ()):
+        best = min(lot, key=lot.get)
+        delta = lot[model] - lot[best]
+        if delta > MISFIT_AICC:
             flags.append(Flag("model_misfits_lot",
                               f"Lot '{label}': the common {model} model fits it much worse than "
-                              f"{ranking[0].model} (AICc higher by {own.aicc - ranking[0].aicc:.1f}).",
-                              {"lot": label, "best": ranking[0].model,
-                               "delta_aicc": own.aicc - ranking[0].aicc}))
+                              f"{best} (AICc higher by {delta:.1f}).",
+                              {"lot": label, "best": best, "delta_aicc": delta}))
     return flags
 
 
 # --- public ------------------------------------------------------------------------------------
 
 def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance=0.10, model=None,
-            reference=0, *, samples: int = 400, seed: int | None = 0, progress=None) -> Comparison:
+            reference=0, *, samples: int = 400, seed: int | None = 0, progress=None,
+            rankings=None) -> Comparison:
     """Compare lots (flow curves) with one model, at one operating point, against a reference.
 
     Parameters
@@ -632,12 +655,17 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
         Relative tolerance, e.g. 0.10 or "10 %".
     model : str, optional
         One model for every lot; by default the best by AICc summed over
-        the lots (every model is fitted to every lot).
+        the lots (every model is fitted to every lot at its optimum, and
+        intervals are computed for the chosen model only).
     reference : int or str
         Index (from 0) or name of the reference lot.
     samples, seed : Monte Carlo draws and seed of the prediction intervals.
     progress : callable(str), optional
         Called with a short message before each step (fits, predictions).
+    rankings : list of FitRanking, optional
+        :func:`rheofit.fitting.fit_all` of each lot, in order, when the
+        caller has them already: the model is then chosen from their AICc
+        and its fits (with intervals) are taken from them, not redone.
 
     Returns
     -------
@@ -658,7 +686,7 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
     geometry, point = _operating(geometry, flow_rate, pressure_drop)
     shared = shared_range(curves, labels)
     progress = progress or (lambda message: None)
-    fits, model_name, choice, totals, rankings = _fits(curves, labels, model, progress)
+    fits, model_name, choice, totals, scores = _fits(curves, labels, model, progress, rankings)
     predictions = []
     if point:
         from rheofit.flow.predict import predict
@@ -670,7 +698,7 @@ def compare(curves, geometry=None, flow_rate=None, pressure_drop=None, tolerance
     test = same_curve_test(curves, fits)
     solved = _QUANTITY[next(iter(point))] if point else None
     table = _table(labels, fits, predictions, solved, reference, shared, tolerance)
-    flags = _comparison_flags(labels, fits, predictions, shared, rankings, model_name, geometry)
+    flags = _comparison_flags(labels, fits, predictions, shared, scores, model_name, geometry)
     flags += _lot_flags(labels, curves, fits, predictions)
     if not math.isfinite(test["p_value"]):
         flags.append(Flag("test_unavailable", f"The same-curve test could not be made: {test.get('note', '')}.",

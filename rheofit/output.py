@@ -4,6 +4,7 @@ existing file unless asked."""
 from __future__ import annotations
 
 import contextlib
+import json
 import math
 import os
 from pathlib import Path
@@ -21,27 +22,33 @@ def finite_or_none(value) -> float | None:
     return value if math.isfinite(value) else None
 
 
-def json_safe(value):
-    """Numbers, strings, lists and dicts made JSON-safe, recursively.
+def json_safe(value, replaced: list | None = None, where: str = ""):
+    """Numbers, strings, lists and dicts made JSON-safe, recursively: the one coercer.
 
-    numpy scalars and arrays are unwrapped, nan and +/-inf become None, dict
-    keys become strings, anything else unknown becomes its ``str``.
+    numpy scalars and arrays are unwrapped, nan and +/-inf become None (the
+    key path of each is appended to ``replaced`` when given), dict keys become
+    strings, anything else unknown becomes its ``str``.
 
     >>> json_safe({"a": np.array([1.5, np.nan]), 2: np.int64(3), "ok": np.bool_(True)})
     {'a': [1.5, None], '2': 3, 'ok': True}
+    >>> found = []; _ = json_safe({"gap": [1.0, float("inf")]}, found); found
+    ['gap[1]']
     """
     if isinstance(value, (bool, np.bool_)):
         return bool(value)
     if isinstance(value, (int, np.integer)):
         return int(value)
     if isinstance(value, (float, np.floating)):
-        return finite_or_none(value)
+        safe = finite_or_none(value)
+        if safe is None and replaced is not None:
+            replaced.append(where)
+        return safe
     if isinstance(value, np.ndarray):
-        return json_safe(value.tolist())
+        return json_safe(value.tolist(), replaced, where)
     if isinstance(value, dict):
-        return {str(k): json_safe(v) for k, v in value.items()}
+        return {str(k): json_safe(v, replaced, f"{where}.{k}" if where else str(k)) for k, v in value.items()}
     if isinstance(value, (list, tuple)):
-        return [json_safe(v) for v in value]
+        return [json_safe(v, replaced, f"{where}[{i}]") for i, v in enumerate(value)]
     return value if value is None or isinstance(value, str) else str(value)
 
 
@@ -77,6 +84,23 @@ PARTIAL = ".rheofit-partial-"
 """Temp files are named ``<output>.rheofit-partial-<pid>``: recognisable, safe to delete."""
 
 _STAGED: list | None = None  # (temp, target) pairs waiting for the end of a staged() block
+
+
+#: key added to a printed document listing where a non-finite number was written as null
+REPLACED_KEY = "non_finite_written_as_null"
+
+
+def strict_json(document, indent: int | None = 2) -> str:
+    """``document`` as strict JSON (RFC 8259: no NaN or Infinity), via :func:`json_safe`.
+
+    Every nan/inf becomes null; a dict document then gains the key
+    ``non_finite_written_as_null`` listing the key paths so replaced.
+    """
+    replaced: list[str] = []
+    safe = json_safe(document, replaced)
+    if replaced and isinstance(safe, dict):
+        safe[REPLACED_KEY] = replaced
+    return json.dumps(safe, indent=indent, allow_nan=False)
 
 
 def _blocked(folder: Path):

@@ -128,3 +128,27 @@ def test_unknown_unit_in_a_header_is_named(tmp_path):
     result = run("fit", path)
     assert result.exit_code == 2
     assert "'furlong'" in result.output and "--unit viscosity=" in result.output
+
+
+# --- several files at once -----------------------------------------------------------------
+
+def test_files_fitted_in_parallel_give_the_same_document_in_the_same_order(tmp_path):
+    files = [SAMPLES / f"{stem}.csv" for stem in ("medium_lot_C", "microgel_carrier", "medium_lot_A")]
+    serial = run("fit", *files, "--model", "power_law", "--json", "--jobs", "1")
+    parallel = run("fit", *files, "--model", "power_law", "--json", "--jobs", "2")
+    assert serial.exit_code == 0 and parallel.exit_code == 0, parallel.output
+    assert json.loads(parallel.output) == json.loads(serial.output)
+    names = [c["name"] for c in json.loads(parallel.output)["curves"]]
+    assert names == ["medium_lot_C", "microgel_carrier", "medium_lot_A"]
+
+
+def test_the_first_bad_file_is_named_when_fitting_in_parallel(tmp_path):
+    bad_1, bad_2 = tmp_path / "bad_1.csv", tmp_path / "bad_2.csv"
+    bad_1.write_text("Shear rate [1/s],Viscosity [Pa s]\n", encoding="utf-8")
+    bad_2.write_text("no numbers here\n", encoding="utf-8")
+    files = [SAMPLES / "medium_lot_A.csv", bad_1, SAMPLES / "medium_lot_B.csv", bad_2]
+    serial = run("fit", *files, "--model", "power_law", "--jobs", "1")
+    parallel = run("fit", *files, "--model", "power_law", "--jobs", "2")
+    assert parallel.exit_code == serial.exit_code == 2
+    assert "bad_1.csv" in parallel.output and "bad_2.csv" not in parallel.output
+    assert parallel.output == serial.output and "Traceback" not in parallel.output

@@ -135,14 +135,14 @@ def test_same_curve_test_rejects_at_its_nominal_rate_under_the_null():
 def test_same_curve_test_that_cannot_be_made_is_flagged(monkeypatch):
     import rheofit.fitting as fitting
 
-    real = fitting.fit
+    real = fitting.optimum_rss
 
-    def pooled_fails(curve, model, **kwargs):
+    def pooled_fails(curve, model):
         if curve.name == "pooled lots":
             raise FitError("the optimiser failed")
-        return real(curve, model, **kwargs)
+        return real(curve, model)
 
-    monkeypatch.setattr(fitting, "fit", pooled_fails)
+    monkeypatch.setattr(fitting, "optimum_rss", pooled_fails)
     rng = np.random.default_rng(7)
     c = compare([lot("a", rng), lot("b", rng)], model="power_law")
     assert math.isnan(c.p_value)
@@ -246,7 +246,10 @@ def test_progress_is_reported():
     seen = []
     compare([lot("A", rng), lot("B", rng)], geometry=TUBE, flow_rate=Q, model="power_law",
             progress=seen.append)
-    assert len(seen) == 5 and "same-curve" in seen[-1] and "'B'" in seen[1]
+    # a given model is judged on each lot too: every model ranked there (2), then the fits (2),
+    # the predictions (2) and the same-curve test (1)
+    assert len(seen) == 7 and "same-curve" in seen[-1] and "'B'" in seen[1]
+    assert seen[0].startswith("ranking every model")
 
 
 # --- output forms ----------------------------------------------------------------------------------
@@ -344,14 +347,24 @@ def test_a_lot_that_cannot_be_fitted_is_named(two):
 
 def test_no_model_fits_every_lot(two, monkeypatch):
     import rheofit.fitting as fitting
-    from rheofit.fitting import FitRanking
 
-    real = fitting.fit_all
+    real = fitting.aicc_scores
 
-    def disjoint(curve, *args, **kwargs):
-        models = ["power_law"] if curve.name == "A" else ["newtonian"]
-        return FitRanking([fit(curve, m) for m in models]) if models else real(curve)
+    def disjoint(curve, models=None):
+        return real(curve, ["power_law"] if curve.name == "A" else ["newtonian"])
 
-    monkeypatch.setattr(fitting, "fit_all", disjoint)
+    monkeypatch.setattr(fitting, "aicc_scores", disjoint)
     with pytest.raises(FitError, match="No model could be fitted to every lot"):
         compare(two)
+
+
+def test_rankings_given_are_used_instead_of_fitting_again():
+    rng = np.random.default_rng(10)
+    curves = [lot("A", rng, points=10), lot("B", rng, points=10)]
+    rankings = [fit_all(k) for k in curves]
+    given = compare(curves, geometry=TUBE, flow_rate=Q, rankings=rankings)
+    fresh = compare(curves, geometry=TUBE, flow_rate=Q)
+    assert given.model == fresh.model
+    chosen = [next(r for r in ranking if r.model == given.model) for ranking in rankings]
+    assert all(f is c for f, c in zip(given.fits, chosen))
+    assert given.table.equals(fresh.table)  # fit_all's fits are fit()'s: the same numbers

@@ -137,13 +137,13 @@ def test_missing_saved_fit_is_named(tmp_path):  # saved.py: _document
         load_fit(tmp_path / "missing.json")
 
 
-@pytest.mark.parametrize("name, content", [
-    ("truncated.json", b'{"kind": "rheofit-fits", "curves": ['),
-    ("latin1.json", '{"kind": "rheofit-fits", "note": "25 \u00b0C"}'.encode("latin-1")),
+@pytest.mark.parametrize("name, content, said", [
+    ("truncated.json", b'{"kind": "rheofit-fits", "curves": [', "is broken JSON at line 1, column 37"),
+    ("latin1.json", '{"kind": "rheofit-fits", "note": "25 \u00b0C"}'.encode("latin-1"), "is not UTF-8"),
 ])
-def test_unreadable_saved_fit_names_the_file(tmp_path, name, content):  # saved.py: _document
+def test_unreadable_saved_fit_names_the_file(tmp_path, name, content, said):  # saved.py: _document
     (tmp_path / name).write_bytes(content)
-    with pytest.raises(InputFileError, match="is not a saved rheofit fit") as info:
+    with pytest.raises(InputFileError, match=said) as info:
         load_fit(tmp_path / name)
     assert f"{name}'" in str(info.value)
 

@@ -430,6 +430,44 @@ def test_runs_table_value():
     assert runs_probability_at_most(6, 10, 10) <= 0.025 < runs_probability_at_most(7, 10, 10)
 
 
+def _runs_at_most_integers(runs, n1, n2):
+    """P(R <= runs) as an exact fraction of integer binomials (Wald & Wolfowitz 1940, p. 149)."""
+    count = 0
+    for r in range(2, runs + 1):
+        s = r // 2
+        if r % 2 == 0:
+            count += 2 * math.comb(n1 - 1, s - 1) * math.comb(n2 - 1, s - 1)
+        else:
+            count += (math.comb(n1 - 1, s) * math.comb(n2 - 1, s - 1)
+                      + math.comb(n1 - 1, s - 1) * math.comb(n2 - 1, s))
+    return count / math.comb(n1 + n2, n1)
+
+
+@pytest.mark.parametrize("n_pos,n_neg", [(1, 1), (2, 9), (10, 10), (13, 40), (60, 45), (300, 200)])
+def test_runs_log_space_sum_equals_integer_sum(n_pos, n_neg):
+    # Wald & Wolfowitz (1940) Ann. Math. Stat. 11, 147-162: the exact distribution,
+    # summed here with Python's exact integers; the log-space sum must give the same.
+    for r in range(0, n_pos + n_neg + 2):
+        exact = _runs_at_most_integers(r, n_pos, n_neg)
+        assert runs_probability_at_most(r, n_pos, n_neg) == pytest.approx(exact, rel=1e-11, abs=1e-300)
+
+
+def test_runs_moments_at_large_n():
+    # Wald & Wolfowitz (1940) Ann. Math. Stat. 11, 147-162: mean 2 n1 n2 / N + 1 and
+    # variance 2 n1 n2 (2 n1 n2 - N) / (N^2 (N - 1)), from the distribution the
+    # log-space sum gives at a size where the integer sum would take minutes.
+    n1, n2 = 30_000, 20_000
+    n = n1 + n2
+    mean = 2 * n1 * n2 / n + 1
+    variance = 2 * n1 * n2 * (2 * n1 * n2 - n) / (n**2 * (n - 1))
+    r = np.arange(int(mean - 12 * variance**0.5), int(mean + 12 * variance**0.5))
+    cdf = np.array([runs_probability_at_most(int(v), n1, n2) for v in r])
+    pmf = np.diff(cdf)
+    assert cdf[0] < 1e-25 and cdf[-1] == pytest.approx(1.0, abs=1e-12)
+    assert float(pmf @ r[1:]) == pytest.approx(mean, rel=1e-9)
+    assert float(pmf @ (r[1:] - mean) ** 2) == pytest.approx(variance, rel=1e-6)
+
+
 # --- flags ----------------------------------------------------------------------------------
 
 def test_few_points_flag_and_curve_flags_travel():
@@ -585,3 +623,20 @@ def test_saved_fit_errors(power_law_fit):
         FitResult.from_dict(d)
     with pytest.raises(ModelNameError, match="Unknown model 'powerlaw'"):
         FitResult.from_dict({**power_law_fit.to_dict(), "model": "powerlaw"})
+
+
+# --- ranking at the optima alone ---------------------------------------------------------
+
+@pytest.mark.parametrize("model", ["carreau", "herschel_bulkley"])
+def test_aicc_scores_rank_as_fit_all_does(model):
+    # the scores are fit_all's AICc before any interval is computed; a profile that
+    # finds a lower minimum may only lower a model's AICc, never raise it
+    from rheofit.fitting import aicc_scores
+
+    curve = synthetic(model, RECOVERY[model][0], *RECOVERY[model][1], seed=4)
+    ranking = fit_all(curve)
+    scores = aicc_scores(curve)
+    assert set(scores) == {r.model for r in ranking}
+    for r in ranking:
+        assert r.aicc <= scores[r.model] + 1e-9 * abs(scores[r.model])
+    assert min(scores, key=scores.get) == ranking[0].model

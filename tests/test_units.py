@@ -4,6 +4,7 @@ import re
 
 import pytest
 
+from rheofit import units
 from rheofit.errors import ParameterError, UnitError
 from rheofit.units import is_unit_of, parse_quantity, parse_tolerance, parse_typed, to_si
 
@@ -140,3 +141,62 @@ def test_tolerance_as_percentage_or_fraction(text, expected):
 def test_tolerance_that_could_be_misread_is_refused(text, words):
     with pytest.raises(ParameterError, match=re.escape(words)):
         parse_tolerance(text, "--tolerance")
+# --- the own table of common units against pint ----------------------------------------
+
+def _pint_si(text, kind):
+    """(scale, offset) of ``text`` to the SI unit of ``kind``, straight from pint."""
+    import pint
+
+    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    target = ureg.Unit(units.SI_UNITS[kind]) if units.SI_UNITS[kind] else ureg.dimensionless
+    zero = ureg.Quantity(0.0, ureg.Unit(text)).to(target).magnitude
+    return ureg.Quantity(1.0, ureg.Unit(text)).to(target).magnitude - zero, zero
+
+
+def _kind_of(dims):
+    return next(k for k, d in units._DIMENSIONS.items() if d == dims)
+
+
+TABLE_TEXTS = sorted(
+    list(units._UNITS) + list(units._OFFSET_UNITS)
+    + [p + s for s in units._PREFIXABLE for p in units._PREFIXES]
+    + ["1/s", "mPa*s", "Pa s", "uL/min", "mL/h", "kg/m**3", "g/mL", "m**3/s", "mm/s",
+       "dyn/cm**2", "N/m**2", "kg/m^3", "1/min", "kg/m s", "Pa/s*m"]
+)
+
+
+@pytest.mark.parametrize("text", TABLE_TEXTS)
+def test_table_unit_agrees_with_pint(text):
+    # pint (an independent unit library) is the reference for every entry the table reads
+    found = units._table_unit(text)
+    assert found is not None
+    scale, dims, offset = found
+    if dims not in units._DIMENSIONS.values():  # e.g. a mass or a time alone: compare in base units
+        import pint
+
+        ureg = pint.UnitRegistry()
+        assert scale == pytest.approx(ureg.Quantity(1.0, text).to_base_units().magnitude, rel=1e-14)
+        return
+    ref_scale, ref_offset = _pint_si(text, _kind_of(dims))
+    # pint's degF scale carries its own rounding (255.92... - 255.37...), hence 1e-12 there
+    assert scale == pytest.approx(ref_scale, rel=1e-12 if offset else 1e-14)
+    assert offset == pytest.approx(ref_offset, rel=1e-14)
+
+
+def test_plain_words_are_no_unit_for_pint_either():
+    import pint
+
+    ureg = pint.UnitRegistry()
+    for word in units._PLAIN_WORDS:
+        with pytest.raises(pint.UndefinedUnitError):
+            ureg.Unit(word)
+
+
+def test_reading_a_sample_sweep_loads_no_unit_library():
+    import subprocess
+    import sys
+
+    code = ("import sys; from rheofit.ingest import read_flow_curve; from rheofit.jobs.demo import sample_curves; "
+            "sample_curves(); print('pint' in sys.modules)")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert done.stdout.strip() == "False"

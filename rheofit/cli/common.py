@@ -6,8 +6,8 @@ Heavy libraries are imported inside the functions so that ``--help`` is fast.
 
 from __future__ import annotations
 
+import contextlib
 import functools
-import json
 import sys
 from pathlib import Path
 from typing import Optional
@@ -30,6 +30,24 @@ def error_line(message: str) -> None:
     raise typer.Exit(2)
 
 
+@contextlib.contextmanager
+def expected_numeric_warnings_silenced():
+    """numpy floating-point and lmfit warnings kept off the user's stderr.
+
+    Overflow, nan and division by zero at the edges (a 1e-320 m gap, a fit
+    probing its bounds) are expected there: the results are checked for
+    finiteness by the code that uses them and refused or flagged in words.
+    """
+    import warnings
+
+    import numpy as np
+
+    with np.errstate(all="ignore"), warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        warnings.filterwarnings("ignore", module=r"lmfit(\..*)?$")
+        yield
+
+
 def user_errors(command):
     """Turn RheofitError (and unreadable paths) into one line on stderr, exit 2."""
 
@@ -38,8 +56,8 @@ def user_errors(command):
         from rheofit.errors import RheofitError, command_line_spelling
 
         try:
-            with command_line_spelling():  # messages name --column viscosity=2, not viscosity_column=2
-                return command(*args, **kwargs)
+            with command_line_spelling(), expected_numeric_warnings_silenced():
+                return command(*args, **kwargs)  # messages name --column viscosity=2, not viscosity_column=2
         except RheofitError as exc:
             error_line(str(exc))
         except OSError as exc:  # a path the system refuses: say which and why, in one line
@@ -49,9 +67,9 @@ def user_errors(command):
 
 
 def emit_json(document: dict, out: Optional[Path], force: bool, inputs=()) -> None:
-    from rheofit.output import write_atomic
+    from rheofit.output import strict_json, write_atomic
 
-    text = json.dumps(document, indent=2)
+    text = strict_json(document, indent=2)
     if out is not None:
         write_atomic(out, text + "\n", force=force, inputs=inputs)
         from rheofit.report.display import markup_safe
@@ -126,10 +144,10 @@ def load_source(source: Path, model: Optional[str], keywords: dict):
 
     A model given by name is judged against the others (its Akaike weight and
     rank), and flagged ``forced_model`` when the data reject it."""
-    from rheofit.fitting.saved import is_saved_fit, load_fit
-    from rheofit.fitting.support import choose, forced
+    from rheofit.fitting.saved import looks_like_json, load_fit
+    from rheofit.fitting.support import forced
 
-    if is_saved_fit(source):
+    if looks_like_json(source):  # a saved fit, or broken JSON said so (never read as a CSV)
         given = [k for k, v in keywords.items() if k != "curve" and v not in (None, "all")]
         if given:
             from rheofit.errors import ParameterError
@@ -140,12 +158,12 @@ def load_source(source: Path, model: Optional[str], keywords: dict):
             )
         result = load_fit(source, model=model, curve=keywords.get("curve"))
         return forced(result) if model else result
-    from rheofit.fitting import fit_all
+    from rheofit.fitting import fit_all, fit_judged
     from rheofit.ingest import read_flow_curve
 
     keywords = dict(keywords)
     curve = read_flow_curve(source, curve=keywords.pop("curve", None), **keywords)
-    return choose(fit_all(curve), model)  # every model ranked: a chosen one carries its weight
+    return fit_judged(curve, model) if model else fit_all(curve)[0]  # a chosen model carries its weight
 
 
 def make_geometry(diameter, gap, width, length):

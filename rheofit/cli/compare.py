@@ -6,7 +6,6 @@ Thin: parse the options, call :func:`rheofit.lots.compare`, print what
 
 from __future__ import annotations
 
-import json
 import sys
 from pathlib import Path
 from typing import Optional
@@ -58,7 +57,8 @@ def run_comparison(curves, console, **options):
     from rheofit.lots import compare
     from rheofit.report.display import markup_safe
 
-    steps = len(curves) * (2 if options.get("geometry") is not None else 1) + 1
+    per_lot = 2 + (options.get("geometry") is not None)  # rank (a given model is judged too), fit, predict
+    steps = len(curves) * per_lot + 1
     with Progress(console=console, transient=True) as bar:
         task = bar.add_task("comparing", total=steps)
 
@@ -70,12 +70,12 @@ def run_comparison(curves, console, **options):
 
 
 def _write(out: Path, comparison, force: bool, inputs) -> None:
-    from rheofit.output import csv_text, write_atomic
+    from rheofit.output import csv_text, strict_json, write_atomic
 
     if out.suffix.lower() == ".csv":
         write_atomic(out, csv_text(comparison.table), force=force, inputs=inputs)
     else:
-        write_atomic(out, json.dumps(comparison.to_dict(), indent=2) + "\n", force=force, inputs=inputs)
+        write_atomic(out, strict_json(comparison.to_dict(), indent=2) + "\n", force=force, inputs=inputs)
 
 
 # --- the command -------------------------------------------------------------------------------
@@ -131,7 +131,9 @@ def compare_command(
                                 reference=index, **point)
     if as_json:
         if out is None:
-            sys.stdout.write(json.dumps(comparison.to_dict(), indent=2) + "\n")
+            from rheofit.output import strict_json
+
+            sys.stdout.write(strict_json(comparison.to_dict(), indent=2) + "\n")
             return
     else:
         Console().print(comparison_block(comparison))

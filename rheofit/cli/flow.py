@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 import sys
 from pathlib import Path
 from typing import Optional
@@ -53,7 +52,9 @@ def flow_command(
     with console(stderr=True).status("solving the flow and its 95 % interval"):
         prediction = predict(result, geometry, newtonian_viscosity=typed["newtonian_viscosity"], **point)
     if as_json:
-        sys.stdout.write(json.dumps(prediction.to_dict(), indent=2) + "\n")
+        from rheofit.output import strict_json
+
+        sys.stdout.write(strict_json(prediction.to_dict(), indent=2) + "\n")
         return
     from rheofit.report.console import prediction_block
 

@@ -1,7 +1,8 @@
 """Fitting viscosity models to flow curves, with honest 95 % intervals and a ranking.
 
 - :mod:`~rheofit.fitting.problem`: the log-space least-squares problem and its parametrisation
-- :mod:`~rheofit.fitting.solve`: :func:`fit` one model, :func:`fit_all` ranked by AICc
+- :mod:`~rheofit.fitting.solve`: :func:`fit` one model, :func:`fit_all` ranked by AICc,
+  :func:`aicc_scores` and :func:`optimum_rss` (optima alone, no intervals)
 - :mod:`~rheofit.fitting.intervals`: profile-likelihood and Wald interval ends
 - :mod:`~rheofit.fitting.statistics`: AICc/BIC, Akaike weights, the profile threshold, the runs test,
   parameter correlations
@@ -15,6 +16,6 @@
 """
 
 from rheofit.fitting.result import FitResult
-from rheofit.fitting.solve import FitRanking, fit, fit_all
+from rheofit.fitting.solve import FitRanking, aicc_scores, fit, fit_all, fit_judged, optimum_rss
 
-__all__ = ["FitRanking", "FitResult", "fit", "fit_all"]
+__all__ = ["FitRanking", "FitResult", "aicc_scores", "fit", "fit_all", "fit_judged", "optimum_rss"]

@@ -7,9 +7,10 @@ them by AICc.  Everything is generic over the declarations in
 Method
 ------
 * Residuals are relative, in log space: r_i = ln tau_model(gamma_dot_i) -
-  ln tau_i, minimised by lmfit's trust-region reflective least squares
-  within the declared bounds; ``positive_scale`` parameters are fitted as
-  their logarithms (:mod:`rheofit.fitting.problem`).
+  ln tau_i, minimised by trust-region reflective least squares
+  (scipy.optimize.least_squares) within the declared bounds;
+  ``positive_scale`` parameters are fitted as their logarithms
+  (:mod:`rheofit.fitting.problem`).
 * Start from the declaration's ``guess()``; parameters that commonly trap
   the optimiser (``lam``, ``tau_y``, ``eta_inf``) get a few extra starts
   and the lowest RSS wins.
@@ -51,11 +52,12 @@ from rheofit.fitting.problem import LogStressProblem
 from rheofit.fitting.result import Covariance, FitResult, ParameterEstimate
 from rheofit.fitting.statistics import (akaike_weights, floored_rss, information_criteria,
                                         profile_threshold, runs_test)
-from rheofit.fitting.support import MIN_SPARE_POINTS, ranking_caveat, with_support
+from rheofit.fitting.support import MIN_SPARE_POINTS, forced, ranking_caveat, supported, with_support
 from rheofit.fluid import Fluid
 from rheofit.models import MODELS, ViscosityModel, get_model
 
-__all__ = ["fit", "fit_all", "FitResult", "FitRanking", "ParameterEstimate", "INTERVAL_METHODS"]
+__all__ = ["fit", "fit_all", "fit_judged", "aicc_scores", "optimum_rss", "FitResult", "FitRanking",
+           "ParameterEstimate", "INTERVAL_METHODS"]
 
 #: interval_method choices: "auto" = profile likelihood, falling back to the
 #: Wald interval for an end whose profile cannot be computed
@@ -514,3 +516,60 @@ def fit_all(curve, models=None, *, interval_method: str = "auto") -> FitRanking:
         reasons = " ".join(reason for _, reason in skipped)
         raise FitError(f"No model could be fitted to curve '{_label(curve)}'. {reasons}")
     return FitRanking(with_support(results, skipped), skipped)
+
+
+# --- ranking without intervals ------------------------------------------------------------
+
+def _optimum(curve, declaration: ViscosityModel) -> tuple[LogStressProblem, float]:
+    """The problem and its RSS at the best of the starting points (no intervals)."""
+    rate, stress = _checked_data(curve)
+    _check_enough_points(declaration, curve)
+    problem = LogStressProblem(declaration, rate, stress)
+    return problem, _best_fit(problem, curve)[1]
+
+
+def optimum_rss(curve, model) -> float:
+    """RSS of the log residuals [-] at the best optimum of one model, without intervals.
+
+    What :func:`fit` reaches before its profiles (which may still find a
+    lower minimum and restart from it).  Raises FitError like :func:`fit`.
+    """
+    return _optimum(curve, get_model(model))[1]
+
+
+def aicc_scores(curve, models=None) -> dict[str, float]:
+    """AICc of every model that can be fitted, at its best optimum, without intervals.
+
+    For choosing a model before paying for intervals: the scores are those
+    of :func:`fit_all` except where a profile finds a lower minimum.
+    ``models`` defaults to every model in :data:`rheofit.models.MODELS`;
+    a model that cannot be fitted is left out.  Raises FitError for bad data.
+    """
+    declarations = [get_model(m) for m in (MODELS.values() if models is None else models)]
+    _checked_data(curve)
+    scores = {}
+    for declaration in declarations:
+        try:
+            problem, rss = _optimum(curve, declaration)
+        except FitError:
+            continue
+        scores[declaration.name] = information_criteria(rss, problem.n_points, problem.n_params)["aicc"]
+    return scores
+
+
+def fit_judged(curve, model, models=None, *, interval_method: str = "auto") -> FitResult:
+    """One model chosen by the user, fitted with intervals and judged against the others.
+
+    The others are ranked at their optima only (:func:`aicc_scores`, over
+    ``models``, default every model in :data:`rheofit.models.MODELS`, with the
+    chosen declaration in place of its namesake); the result carries its
+    Akaike weight and rank (``support``) and a ``forced_model`` flag when the
+    data reject it (:func:`rheofit.fitting.support.forced`).
+    """
+    declaration = get_model(model)
+    pool = [get_model(m) for m in (MODELS.values() if models is None else models)]
+    pool = [m for m in pool if m.name != declaration.name] + [declaration]
+    result = fit(curve, declaration, interval_method=interval_method)
+    scores = aicc_scores(curve, pool)
+    missing = [m.name for m in pool if m.name not in scores]
+    return forced(supported(result, scores, missing))

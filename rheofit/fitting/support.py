@@ -149,6 +149,24 @@ def with_support(results, skipped=()) -> list:
             for i, (r, w) in enumerate(zip(ordered, weights), start=1)]
 
 
+def supported(fit, scores, not_ranked=()):
+    """``fit`` with its :class:`ModelSupport` among the models of ``scores``.
+
+    ``scores`` maps model names to their AICc at the optimum (a ranking made
+    without intervals, :func:`rheofit.fitting.solve.aicc_scores`); the fit's
+    own AICc stands for its model.  ``not_ranked``: the models tried but not
+    fitted.
+    """
+    aicc = {name: float(value) for name, value in scores.items()}
+    aicc[fit.model] = float(fit.aicc)
+    names = sorted(aicc, key=lambda m: (not math.isfinite(aicc[m]), aicc[m]))
+    weights = akaike_weights([aicc[m] for m in names])
+    i = names.index(fit.model)
+    return replace(fit, support=ModelSupport(float(weights[i]), i + 1, len(names), names[0],
+                                             aicc[fit.model] - aicc[names[0]], int(fit.n_points),
+                                             tuple(not_ranked)))
+
+
 def ranking_caveat(n_points: int, ranked, not_ranked=()) -> str:
     """One sentence on what a one-model or thin ranking cannot say ("" when nothing needs saying).
 

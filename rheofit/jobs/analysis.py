@@ -238,7 +238,8 @@ def compare_samples(samples, case: OperatingCase | None, *, model: str | None = 
     curves = [s.curve for s in samples]
     point = {} if case is None else {"geometry": case.geometry, **case.point}
     point["progress"] = quiet(steps).note
-    return compare(curves, tolerance=tolerance, model=model, **point), ""
+    rankings = [s.ranking for s in samples]  # fitted already: not fitted again
+    return compare(curves, tolerance=tolerance, model=model, rankings=rankings, **point), ""
 
 
 def analyse(curves, *, model: str | None = None, cases=(), density=None, tolerance: float = 0.10,

@@ -131,7 +131,7 @@ def run_demo(out=None, *, force: bool = False, steps: Steps | None = None) -> De
     import json
     import tempfile
 
-    from rheofit.output import staged, write_atomic
+    from rheofit.output import staged, strict_json, write_atomic
     from rheofit.report.html import write_report
     from rheofit.fitting.saved import fits_document
 
@@ -141,7 +141,7 @@ def run_demo(out=None, *, force: bool = False, steps: Steps | None = None) -> De
     document = fits_document([(s.curve, s.ranking) for s in analysis.samples])
     document["notice"] = NOTICE
     with staged():  # both files appear together, or neither (a stopped run blocks no rerun)
-        fits = write_atomic(out / FITS_NAME, json.dumps(document, indent=2) + "\n", force=force)
+        fits = write_atomic(out / FITS_NAME, strict_json(document, indent=2) + "\n", force=force)
         report = write_report(out / REPORT_NAME, analysis, force=force, steps=steps)
     return DemoResult(out, report, fits, analysis)
 

@@ -282,7 +282,8 @@ _MODELS = (
         newtonian_stress, _newtonian_guess,
         "Newton (1687) Principia, Book II, Sect. IX; Stokes (1845) Trans. Camb. Phil. Soc. 8, 287",
         zero_shear_viscosity_function=lambda mu: mu,
-        extras=_flow_extras(cf.newtonian_tube_flow_rate, cf.newtonian_slit_flow_rate),
+        extras={**_flow_extras(cf.newtonian_tube_flow_rate, cf.newtonian_slit_flow_rate),
+                "rectangle_flow_rate": cf.newtonian_rectangle_flow_rate},
         example={"mu": 0.05}, example_range=(0.1, 1e3),
     ),
     ViscosityModel(

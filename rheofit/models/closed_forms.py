@@ -5,6 +5,8 @@ model's parameters (SI); a declaration names them in its ``extras`` as
 "tube_flow_rate"(tau_w, radius, **params) and "slit_flow_rate"(tau_w,
 half_gap, width, **params).  :mod:`rheofit.flow` checks them against its
 generic (Rabinowitsch-Mooney) path; they return 0 at or below a yield stress.
+"rectangle_flow_rate"(G, half_depth, half_width, **params) gives Q from the
+pressure gradient G = dP/L of a rectangular duct (the 2-D solver's fast path).
 """
 
 from __future__ import annotations
@@ -132,3 +134,26 @@ def ellis_slit_flow_rate(tau_w, half_gap, width, eta0, tau_half, alpha):
     tau_w = np.asarray(tau_w, dtype=float)
     return 2.0 * width * half_gap**2 * tau_w / (3.0 * eta0) * (
         1.0 + 3.0 / (alpha + 2.0) * (tau_w / tau_half) ** (alpha - 1.0))
+
+
+
+
+#: sum over odd i of 1/i^5 = (1 - 2^-5) zeta(5), zeta(5) = 1.0369277551433699 (Abramowitz & Stegun 1964, 23.2.20, table 23.3)
+_ODD_INVERSE_FIFTH = (1.0 - 2.0**-5) * 1.0369277551433699
+
+
+def newtonian_rectangle_flow_rate(pressure_gradient, half_depth, half_width, mu):
+    """Q [m^3/s] of a Newtonian fluid in a rectangular duct -a <= y <= a, -b <= z <= b.
+
+    Q = (4 b a^3 G / (3 mu)) [1 - (192 a / (pi^5 b)) sum_{i = 1, 3, 5, ...} tanh(i pi b / 2a) / i^5]
+    with a <= b (the section is turned so), G = dP/L [Pa/m]: White, F.M. (1991)
+    Viscous Fluid Flow, 2nd ed., McGraw-Hill, eq. 3-48 (Boussinesq 1868).  The
+    sum is taken as sum 1/i^5 - sum (1 - tanh(x_i))/i^5, the second part
+    falling like exp(-i pi b/a), so the value is exact to rounding.
+    """
+    a, b = min(half_depth, half_width), max(half_depth, half_width)
+    i = np.arange(1.0, 80.0, 2.0)
+    x = i * np.pi * b / (2.0 * a)
+    correction = np.sum(2.0 / (np.exp(np.minimum(2.0 * x, 700.0)) + 1.0) / i**5)
+    bracket = 1.0 - 192.0 * a / (np.pi**5 * b) * (_ODD_INVERSE_FIFTH - correction)
+    return 4.0 * b * a**3 * np.asarray(pressure_gradient, dtype=float) / (3.0 * mu) * bracket
