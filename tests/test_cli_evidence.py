@@ -79,11 +79,32 @@ def test_flow_says_before_the_number_that_the_data_reject_the_chosen_model(carre
     assert p["headline"][0].startswith("The data reject the chosen power_law model")
 
 
+def test_the_warning_gives_the_best_models_answer_beside_the_forced_one(carreau_csv, tmp_path):
+    from rheofit import Tube, fit, predict, read_flow_curve
+
+    best = predict(fit(read_flow_curve(carreau_csv), "carreau"), Tube("0.8 mm", "30 cm"),
+                   flow_rate="5 mL/min", uncertainty=False).pressure_drop
+    saved = tmp_path / "fits.json"
+    assert run("fit", carreau_csv, "--out", saved).exit_code == 0
+    for source in (carreau_csv, saved):  # fitted on the spot, or read back from the saved fit
+        done = run("flow", source, "--model", "power_law", *TUBE, "--flow-rate", "5 mL/min", "--json")
+        p = json.loads(done.output)
+        assert p["best_model"]["model"] == "carreau"
+        assert p["best_model"]["value"] == pytest.approx(best, rel=1e-6)
+        assert p["best_model"]["ratio"] == pytest.approx(p["pressure_drop"] / best, rel=1e-9)
+        assert abs(p["best_model"]["ratio"] - 1) > 0.1  # the rejected model is well off here
+        warning = p["headline"][0]
+        assert "The best model (carreau) gives" in warning and f"{p['best_model']['ratio']:.2g}x that" in warning
+        text = flat(run("flow", source, "--model", "power_law", *TUBE, "--flow-rate", "5 mL/min").output)
+        assert text.index("The best model (carreau) gives") < text.index("Pressure drop")
+
+
 def test_no_warning_for_the_best_model_or_a_supported_choice(carreau_csv):
     for extra in ((), ("--model", "carreau")):
         done = run("flow", carreau_csv, *extra, *TUBE, "--flow-rate", "50 uL/min", "--json")
         p = json.loads(done.output)
         assert not [f for f in p["flags"] if f["code"] == "forced_model"], extra
+        assert p["best_model"] is None
         assert p["evidence"]["model"] == "carreau" and not p["evidence"]["residual_pattern"]
 
 

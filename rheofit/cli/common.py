@@ -166,6 +166,34 @@ def load_source(source: Path, model: Optional[str], keywords: dict):
     return fit_judged(curve, model) if model else fit_all(curve)[0]  # a chosen model carries its weight
 
 
+def best_instead(source: Path, result, keywords: dict):
+    """The best model's fit when the data reject ``result``'s (a ``forced_model`` flag), else None.
+
+    From a data file the best model is fitted again (point estimate only); from a
+    saved fit it is read back when it was saved, otherwise None.
+    """
+    support = getattr(result, "support", None)
+    if not result.flags_with("forced_model") or support is None or not support.best \
+            or support.best == result.model:
+        return None
+    from rheofit.fitting.saved import looks_like_json
+
+    if looks_like_json(source):
+        from rheofit.errors import ModelNameError
+        from rheofit.fitting.saved import load_fit
+
+        try:
+            return load_fit(source, model=support.best, curve=keywords.get("curve"))
+        except ModelNameError:
+            return None
+    from rheofit.fitting import fit
+    from rheofit.ingest import read_flow_curve
+
+    keywords = dict(keywords)
+    curve = read_flow_curve(source, curve=keywords.pop("curve", None), **keywords)
+    return fit(curve, support.best, interval_method="wald")
+
+
 def make_geometry(diameter, gap, width, length):
     """Tube or Slit from the CLI's channel options, already in SI (see :func:`quantities`)."""
     from rheofit.errors import GeometryError

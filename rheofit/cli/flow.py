@@ -8,7 +8,7 @@ from typing import Optional
 
 import typer
 
-from rheofit.cli.common import (console, import_keywords, load_source, make_geometry, operating_point,
+from rheofit.cli.common import (best_instead, console, import_keywords, load_source, make_geometry, operating_point,
                                 quantities, user_errors)
 from rheofit.cli.options import (COLUMN, CURVE, DENSITY, DIAMETER, FLOW_RATE, GAP, LENGTH, NEWTONIAN_VISCOSITY,
                                  PRESSURE_DROP, SEGMENT, UNIT, WIDTH)
@@ -51,6 +51,11 @@ def flow_command(
         result = load_source(source, model, keywords)
     with console(stderr=True).status("solving the flow and its 95 % interval"):
         prediction = predict(result, geometry, newtonian_viscosity=typed["newtonian_viscosity"], **point)
+        best = best_instead(source, result, keywords)
+        if best is not None:  # the data reject the chosen model: say what the best one gives
+            from rheofit.flow.predict import beside_best
+
+            prediction = beside_best(prediction, predict(best, geometry, uncertainty=False, **point))
     if as_json:
         from rheofit.output import strict_json
 

@@ -115,8 +115,32 @@ def extrapolation_factor(p) -> float:
     return float(max(1.0, np.max(np.maximum(measured[0] / rate, rate / measured[1]))))
 
 
+def beside_best(p, show=si) -> str | None:
+    """'The best model (carreau) gives 325 kPa here; this answer is 3.3x that.' (None without one)."""
+    best = getattr(p, "best_model", None)
+    flowing = flowing_points(p)
+    if not best or not flowing.any():
+        return None
+    name = solved(p)
+    ours = np.atleast_1d(np.asarray(getattr(p, name), dtype=float)).ravel()[flowing]
+    theirs = np.atleast_1d(np.asarray(best["value"], dtype=float)).ravel()[flowing]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = ours / theirs
+    if ours.size == 1:
+        gives = f"{show(theirs[0], _KIND[name])} here"
+        times = f"{ratio[0]:.2g}x that" if math.isfinite(ratio[0]) else "not comparable"
+    else:
+        gives = f"{show(np.nanmin(theirs), _KIND[name])} to {show(np.nanmax(theirs), _KIND[name])}"
+        times = f"{np.nanmin(ratio):.2g}x to {np.nanmax(ratio):.2g}x those"
+    return f"The best model ({best['model']}) gives {gives}; this answer is {times}."
+
+
 def headline(p, show=si) -> Headline:
     """The four parts of ``p``'s headline."""
     evidence = getattr(p, "evidence", None)
-    return Headline(None if evidence is None else evidence.warning(), answer(p, show), reach(p),
+    warning = None if evidence is None else evidence.warning()
+    best = beside_best(p, show)
+    if warning and best:
+        warning = f"{warning} {best}"
+    return Headline(warning, answer(p, show), reach(p),
                     None if evidence is None else f"evidence ({evidence.model} model): {evidence.line()}")

@@ -75,6 +75,11 @@ class FlowPrediction:
     ``uncertainty_method`` (text) and ``uncertainty_samples`` (Monte Carlo
     draws), see :mod:`rheofit.flow.intervals`.
 
+    Beside the best model (a model the data reject, chosen by the user; None
+    otherwise): ``best_model``, ``{"model": name, "value": the best model's
+    answer}`` for the solved quantity, said in the headline's warning
+    (:func:`beside_best`).
+
     Evidence (a prediction from a fit result; None otherwise): ``evidence``,
     a :class:`rheofit.fitting.evidence.Evidence` (the model's misfit, runs
     test, Akaike weight, unresolved parameters), shown in the headline
@@ -119,6 +124,7 @@ class FlowPrediction:
     uncertainty_samples: int | None = None
     evidence: object = None
     solved_for: str = ""
+    best_model: dict | None = None
 
     #: the interval fields, in the order shown
     _INTERVALS = ("pressure_drop_ci95", "flow_rate_ci95", "wall_shear_stress_ci95",
@@ -160,6 +166,10 @@ class FlowPrediction:
         out["uncertainty_samples"] = self.uncertainty_samples
         out["solved_for"] = self.solved_for
         out["evidence"] = None if self.evidence is None else self.evidence.to_dict()
+        out["best_model"] = None if self.best_model is None else {
+            "model": self.best_model["model"], "value": json_safe(self.best_model["value"]),
+            "ratio": json_safe(np.asarray(getattr(self, self.solved_for), dtype=float)
+                               / np.asarray(self.best_model["value"], dtype=float))}
         out["headline"] = self.headline().lines()
         out["profile"] = {
             "position": json_safe(self.profile["position"].to_numpy()),
@@ -499,6 +509,14 @@ def predict(fluid_or_fit, geometry, flow_rate=None, pressure_drop=None, density=
                            newtonian_viscosity, tolerance, profile_points)
     prediction = _with_evidence(prediction, fluid_or_fit, "pressure_drop" if flow_rate is not None else "flow_rate")
     return prediction if intervals is None else _with_intervals(prediction, intervals, given.shape)
+
+
+def beside_best(prediction: FlowPrediction, best: FlowPrediction) -> FlowPrediction:
+    """``prediction`` (of a model the data reject) with the best model's answer at the same
+    operating point, which its headline warning then gives (``best_model``)."""
+    name = prediction.solved_for or "pressure_drop"
+    model = best.evidence.model if best.evidence is not None else best.fluid.model
+    return replace(prediction, best_model={"model": model, "value": getattr(best, name)})
 
 
 def _with_evidence(prediction: FlowPrediction, source, solved_for: str) -> FlowPrediction:

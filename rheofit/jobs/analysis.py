@@ -191,13 +191,19 @@ def fit_curve(curve, model: str | None = None):
     return ranking, choose(ranking, model)
 
 
-def predict_cases(chosen, cases, density=None) -> tuple[CaseResult, ...]:
-    """A prediction per operating case with the chosen fit, with its operating curve and profile."""
+def predict_cases(chosen, cases, density=None, best=None) -> tuple[CaseResult, ...]:
+    """A prediction per operating case with the chosen fit, with its operating curve and profile;
+    beside ``best``'s answer (:func:`rheofit.flow.predict.beside_best`) when the data reject the chosen model."""
     from rheofit.flow import curves, predict
+    from rheofit.flow.predict import beside_best
 
+    compare = best is not None and best is not chosen and bool(chosen.flags_with("forced_model"))
     results = []
     for case in cases:
         prediction = predict(chosen, case.geometry, density=density, **case.point)
+        if compare:
+            prediction = beside_best(prediction, predict(best, case.geometry, density=density,
+                                                         uncertainty=False, **case.point))
         results.append(CaseResult(case, prediction, curves.operating_curve(prediction, chosen),
                                   curves.profile_against_newtonian(prediction)))
     return tuple(results)
@@ -220,7 +226,7 @@ def analyse_sample(curve, *, model: str | None = None, cases=(), density=None) -
     from rheofit.fitting.band import drawn_band
 
     ranking, chosen = fit_curve(curve, model)
-    results = predict_cases(chosen, cases, density)
+    results = predict_cases(chosen, cases, density, best=ranking[0] if ranking else None)
     return SampleResult(curve, ranking, chosen, drawn_band(chosen, wall_shear_rates(results)), results)
 
 
