@@ -172,4 +172,5 @@ def _percent(r):
 
 
 def _from_percent(p):
-    return np.log1p(np.asarray(p, float) / 100.0)
+    """ln(1 + p/100); matplotlib also asks for p <= -100 % (off the axis), kept finite here."""
+    return np.log1p(np.maximum(np.asarray(p, float), -99.999999) / 100.0)
